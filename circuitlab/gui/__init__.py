@@ -1,0 +1,1 @@
+"""The editor: all Qt code of circuitlab lives in this package."""
