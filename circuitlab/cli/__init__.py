@@ -10,10 +10,10 @@ import argparse
 import sys
 
 from circuitlab import __version__
-from circuitlab.cli import files
+from circuitlab.cli import bench, files
 
 # Modules that each add one or more headless commands.
-COMMAND_MODULES = [files]
+COMMAND_MODULES = [files, bench]
 
 
 def build_parser() -> argparse.ArgumentParser:
