@@ -33,6 +33,10 @@ class Circuit(ModelBase):
     connections: list[Connection] = Field(default_factory=list)
     schedule: dict[str, UnitSchedule] = Field(default_factory=dict)
     sequences: list[Sequence] = Field(default_factory=list)
+    sequences_file: str | None = Field(
+        default=None, min_length=1, max_length=1000,
+        description="a CSV file of the sequences (long layout), relative to the circuit file; "
+        "when set, the sequences are read from it on load and written to it on save")
     training: TrainingSettings = Field(default_factory=TrainingSettings)
     trained: TrainingRecord | None = None
 

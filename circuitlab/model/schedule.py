@@ -90,3 +90,33 @@ def schedule_covers_step0(schedule: UnitSchedule) -> bool:
     return schedule.clamp in ("initial", "every") or (
         schedule.clamp == "steps" and 0 in schedule.clamp_steps
     )
+
+
+def with_clamp_preset(unit: Unit, schedule: UnitSchedule, mode: str,
+                      steps: list[int] | None = None) -> tuple[UnitSchedule, str]:
+    """The unit's schedule and initial mode after choosing clamp ``mode``.
+
+    Only the schedule changes, never the stored values: clamping at steps
+    without a value leaves them for validation to report. The initial mode
+    follows step 0, so the preset means what it says: a preset that clamps
+    step 0 makes the initial state come from data (``clamped``); one that
+    does not turns a ``clamped`` initial state back to ``fixed`` (a learned
+    one stays learned).
+    """
+    new = schedule.model_copy(update={"clamp": mode,
+                                      "clamp_steps": sorted(set(steps or [])) if mode == "steps" else []})
+    initial = unit.initial_mode
+    if schedule_covers_step0(new):
+        initial = "clamped"
+    elif initial == "clamped":
+        initial = "fixed"
+    return new, initial
+
+
+def with_target_preset(schedule: UnitSchedule, mode: str, steps: list[int] | None = None,
+                       last: int = 1) -> UnitSchedule:
+    """The unit's schedule after choosing target ``mode`` (stored values are kept)."""
+    return schedule.model_copy(update={
+        "target": mode,
+        "target_steps": sorted({t for t in steps or [] if t >= 1}) if mode == "steps" else [],
+        "target_last": last if mode == "last" else 1})

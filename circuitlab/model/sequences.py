@@ -40,12 +40,22 @@ class Sequence(ModelBase):
     def set_target(self, unit: str, step: int, value: float | None) -> None:
         _set(self.targets, unit, step, value, self.steps)
 
+    def value(self, layer: str, unit: str, step: int) -> float | None:
+        """The clamp (``layer="clamp"``) or target (``"target"``) value of a cell, or None."""
+        return self.clamp_value(unit, step) if layer == "clamp" else self.target_value(unit, step)
+
+    def set_value(self, layer: str, unit: str, step: int, value: float | None) -> None:
+        """Set (or, with None, clear) the clamp or target value of a cell."""
+        _set(self.clamps if layer == "clamp" else self.targets, unit, step, value, self.steps)
+
     def resize(self, length: int) -> None:
         """Change the length, cutting or padding every row with ``None``."""
         self.length = length
         for rows in (self.clamps, self.targets):
-            for unit, row in rows.items():
+            for unit, row in list(rows.items()):
                 rows[unit] = (row + [None] * self.steps)[: self.steps]
+                if all(v is None for v in rows[unit]):
+                    del rows[unit]
 
 
 def _set(rows: dict[str, Values], unit: str, step: int, value: float | None, steps: int) -> None:
