@@ -10,10 +10,10 @@ import argparse
 import sys
 
 from circuitlab import __version__
-from circuitlab.cli import bench, files
+from circuitlab.cli import bench, files, sequences
 
 # Modules that each add one or more headless commands.
-COMMAND_MODULES = [files, bench]
+COMMAND_MODULES = [files, bench, sequences]
 
 
 def build_parser() -> argparse.ArgumentParser:
