@@ -10,10 +10,10 @@ import argparse
 import sys
 
 from circuitlab import __version__
-from circuitlab.cli import bench, files, sequences
+from circuitlab.cli import bench, files, graph, sequences
 
 # Modules that each add one or more headless commands.
-COMMAND_MODULES = [files, bench, sequences]
+COMMAND_MODULES = [files, bench, sequences, graph]
 
 
 def build_parser() -> argparse.ArgumentParser:

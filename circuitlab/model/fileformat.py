@@ -1,90 +1,182 @@
 """Reading and writing circuit files: one versioned JSON document per circuit.
 
 Structure is checked by pydantic against the model classes (the same
-definitions produce ``resources/circuit.schema.json``). Loading never runs
-code or unpickles; files over ``MAX_FILE_BYTES`` are refused. Saving is
-atomic: the new text goes to a temporary file beside the target, is flushed
-to disk, then renamed over it, so a failed save leaves the old file intact.
+definitions produce ``resources/circuit.schema.json``), in strict mode: a
+number written as text or ``1`` for ``true`` is refused, not guessed at.
+Loading never runs code or unpickles; files over ``MAX_FILE_BYTES`` are
+refused. Saving is atomic: the new text goes to a temporary file beside the
+target, is flushed to disk, then renamed over it, so a failed save leaves
+the old file intact.
 """
 
 import json
 import os
-import tempfile
+import re
+import secrets
+import stat
 from pathlib import Path
 
 import pydantic
 
 from circuitlab.model.circuit import FORMAT_NAME, FORMAT_VERSION, Circuit
-from circuitlab.model.errors import CircuitFileError
+from circuitlab.model.csvdata import SequenceCsvError, load_sequences_file, save_sequences_file
+from circuitlab.model.errors import CircuitFileError, ModelError
 
 MAX_FILE_BYTES = 50 * 1024 * 1024
 FILE_SUFFIX = ".circuit.json"
 SCHEMA_ID = "https://circuitlab.invalid/schema/circuit-1.json"
+MAX_REPORTED_PROBLEMS = 50
+
+_SIZE_LIMIT = f"circuit files are limited to {MAX_FILE_BYTES // (1024 * 1024)} MB"
+# A JSON escape of a UTF-16 surrogate; only then can a lone one reach a string.
+_SURROGATE_ESCAPE = re.compile(r"\\u[dD][89a-fA-F]")
 
 
 def load_circuit(path: str | os.PathLike) -> Circuit:
     """Read a circuit file; raise ``CircuitFileError`` naming each bad field."""
     path = Path(path)
     try:
-        size = path.stat().st_size
-        if size > MAX_FILE_BYTES:
-            raise CircuitFileError(str(path), [
-                f"(file): is {size / 1e6:.1f} MB; circuit files are limited to "
-                f"{MAX_FILE_BYTES / 1e6:.0f} MB"])
-        data = path.read_bytes()
+        with open(path, "rb") as fh:
+            size = os.fstat(fh.fileno()).st_size
+            if size > MAX_FILE_BYTES:
+                raise CircuitFileError(str(path), [f"(file): is {size / 2**20:.1f} MB; {_SIZE_LIMIT}"])
+            # Read one byte past the limit so a pipe or a growing file is caught too.
+            data = fh.read(MAX_FILE_BYTES + 1)
     except OSError as exc:
         raise CircuitFileError(str(path), [f"(file): cannot be read ({exc.strerror or exc})"]) from exc
-    return loads_circuit(data, source=str(path))
+    circuit = loads_circuit(data, source=str(path))
+    if circuit.sequences_file:
+        _load_sequences_file(circuit, path)
+    return circuit
+
+
+def _load_sequences_file(circuit: Circuit, path: Path) -> None:
+    if circuit.sequences:
+        raise CircuitFileError(str(path), ["sequences: must be empty when sequences_file is set"])
+    try:
+        load_sequences_file(circuit, path)
+    except SequenceCsvError as exc:
+        raise CircuitFileError(str(path), [f"sequences_file: {exc.source} {p}"
+                                           for p in exc.problems]) from exc
 
 
 def loads_circuit(data: str | bytes, source: str = "<text>") -> Circuit:
     """Parse circuit JSON text; raise ``CircuitFileError`` naming each bad field."""
     if len(data) > MAX_FILE_BYTES:
-        raise CircuitFileError(source, [f"(file): is over {MAX_FILE_BYTES / 1e6:.0f} MB"])
+        raise CircuitFileError(source, [f"(file): is over {MAX_FILE_BYTES // 2**20} MB; {_SIZE_LIMIT}"])
     if isinstance(data, bytes):
         try:
-            data = data.decode("utf-8")
+            data = data.decode("utf-8-sig")  # a leading byte-order mark is harmless
         except UnicodeDecodeError as exc:
             raise CircuitFileError(source, [f"(file): is not UTF-8 text (byte {exc.start})"]) from exc
+    elif not data.isascii():
+        try:
+            data.encode("utf-8")
+        except UnicodeEncodeError as exc:
+            raise CircuitFileError(source, [
+                f"(file): holds a character that is not valid Unicode (at {exc.start})"]) from exc
     try:
-        doc = json.loads(data, parse_constant=_refuse_constant)
+        doc = json.loads(data, parse_constant=_refuse_constant, object_pairs_hook=_unique_keys)
     except json.JSONDecodeError as exc:
         raise CircuitFileError(source, [
             f"(file): is not valid JSON: {exc.msg} at line {exc.lineno} column {exc.colno}"]) from exc
-    except (ValueError, RecursionError) as exc:
+    except RecursionError as exc:
+        raise CircuitFileError(source, ["(file): is nested too deeply"]) from exc
+    except ValueError as exc:  # NaN/Infinity, duplicate keys, integers of thousands of digits
         raise CircuitFileError(source, [f"(file): is not valid JSON: {exc}"]) from exc
     _check_header(doc, source)
+    if _SURROGATE_ESCAPE.search(data):
+        bad = _lone_surrogates(doc, "")
+        if bad:
+            raise CircuitFileError(source, [f"{p}: holds a lone UTF-16 surrogate, which is not "
+                                            "valid Unicode text" for p in bad[:MAX_REPORTED_PROBLEMS]])
     try:
-        return Circuit.model_validate(doc, strict=False)
+        return Circuit.model_validate(doc, strict=True)
     except pydantic.ValidationError as exc:
-        raise CircuitFileError(source, [_describe(e) for e in exc.errors()]) from exc
+        problems = [describe_error(e) for e in exc.errors(include_url=False, include_input=False)]
+        raise CircuitFileError(source, _capped(problems)) from exc
     except RecursionError as exc:  # absurdly deep nesting inside a field
         raise CircuitFileError(source, ["(file): is nested too deeply"]) from exc
 
 
 def dumps_circuit(circuit: Circuit) -> str:
-    """The file text for ``circuit`` (format name and version first)."""
-    return json.dumps(circuit.model_dump(mode="json"), indent=1, ensure_ascii=False,
-                      allow_nan=False) + "\n"
+    """The file text for ``circuit`` (format name and version first).
+
+    The text is checked as the loader would check it, so a circuit edited in
+    memory into something the format cannot hold (an infinite weight, a
+    number where text belongs) raises ``ModelError`` naming the field instead
+    of producing a file that cannot be opened again.
+    """
+    doc = circuit.model_dump(mode="json", warnings=False)
+    try:
+        Circuit.model_validate(doc, strict=True)
+    except pydantic.ValidationError as exc:
+        problems = _capped([describe_error(e) for e in exc.errors(include_url=False, include_input=False)])
+        raise ModelError("the circuit cannot be saved:\n" + "\n".join(f"  {p}" for p in problems)) from exc
+    if circuit.sequences_file:  # the sequences live in that CSV file (written by save_circuit)
+        doc["sequences"] = []
+    return json.dumps(doc, indent=1, ensure_ascii=False, allow_nan=False) + "\n"
 
 
 def save_circuit(circuit: Circuit, path: str | os.PathLike) -> None:
     """Write ``circuit`` to ``path`` atomically (temporary file, fsync, rename)."""
-    path = Path(path)
     text = dumps_circuit(circuit).encode("utf-8")
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent or ".")
+    if circuit.sequences_file:
+        save_sequences_file(circuit, path)
+    write_atomic(path, text)
+
+
+def write_atomic(path: str | os.PathLike, data: bytes) -> None:
+    """Replace the file at ``path`` with ``data`` so that it is never half-written.
+
+    The bytes go to a temporary file in the same directory, are flushed to
+    disk, and the temporary file is renamed over the target (an atomic step
+    on one file system). An existing file keeps its permissions; a symbolic
+    link is followed, not replaced. If anything fails, the old file is
+    untouched and the temporary file is removed.
+    """
+    target = Path(os.path.realpath(path))
+    try:
+        mode = stat.S_IMODE(os.stat(target).st_mode)
+    except FileNotFoundError:
+        mode = None
+    while True:
+        tmp = target.parent / f".{target.name}.{secrets.token_hex(4)}.tmp"
+        try:
+            # 0o666 is narrowed by the umask, as for any newly created file.
+            fd = os.open(tmp, os.O_WRONLY | os.O_CREAT | os.O_EXCL | getattr(os, "O_BINARY", 0), 0o666)
+            break
+        except FileExistsError:
+            continue
     try:
         with os.fdopen(fd, "wb") as fh:
-            fh.write(text)
+            fh.write(data)
             fh.flush()
             os.fsync(fh.fileno())
-        os.replace(tmp, path)
+        if mode is not None:
+            os.chmod(tmp, mode)
+        os.replace(tmp, target)
     except BaseException:
         try:
             os.unlink(tmp)
         except FileNotFoundError:
             pass
         raise
+    _fsync_directory(target.parent)
+
+
+def _fsync_directory(directory: Path) -> None:
+    """Make the rename itself durable (POSIX); a no-op where directories cannot be opened."""
+    try:
+        fd = os.open(directory, os.O_RDONLY)
+    except OSError:
+        return
+    try:
+        os.fsync(fd)
+    except OSError:
+        pass
+    finally:
+        os.close(fd)
 
 
 def json_schema() -> dict:
@@ -97,19 +189,88 @@ def _refuse_constant(name: str):
     raise ValueError(f"{name} is not a number JSON allows")
 
 
+def _unique_keys(pairs: list[tuple[str, object]]) -> dict:
+    """Refuse an object that names a key twice (plain JSON parsing keeps the last silently)."""
+    out = dict(pairs)
+    if len(out) != len(pairs):
+        seen: set[str] = set()
+        for key, _ in pairs:
+            if key in seen:
+                raise ValueError(f"the key {key!r} appears twice in one object")
+            seen.add(key)
+    return out
+
+
+def _lone_surrogates(node, path: str) -> list[str]:
+    """Paths of strings (values or keys) in a parsed document that are not valid Unicode."""
+    out: list[str] = []
+    stack = [(node, path)]
+    while stack:
+        node, path = stack.pop()
+        if isinstance(node, str):
+            if not _is_unicode(node):
+                out.append(path or "(file)")
+        elif isinstance(node, dict):
+            for key, value in node.items():
+                sub = f"{path}.{key}" if path else key
+                if not _is_unicode(key):
+                    out.append(f"{path or '(file)'} (a key)")
+                    continue
+                stack.append((value, sub))
+        elif isinstance(node, list):
+            stack.extend((v, f"{path}[{i}]") for i, v in enumerate(node))
+    return sorted(out)
+
+
+def _is_unicode(text: str) -> bool:
+    try:
+        text.encode("utf-8")
+    except UnicodeEncodeError:
+        return False
+    return True
+
+
 def _check_header(doc, source: str) -> None:
     if not isinstance(doc, dict):
-        raise CircuitFileError(source, ["(file): must be a JSON object"])
-    fmt = doc.get("format")
+        raise CircuitFileError(source, [
+            f"(file): must be a JSON object (found {_json_kind(doc)})"])
+    if "format" not in doc:
+        raise CircuitFileError(source, [f"format: is required and must be '{FORMAT_NAME}'; "
+                                        "this does not look like a circuit file"])
+    fmt = doc["format"]
     if fmt != FORMAT_NAME:
-        raise CircuitFileError(source, [f"format: must be '{FORMAT_NAME}' (found {fmt!r})"])
-    version = doc.get("version")
+        raise CircuitFileError(source, [f"format: must be '{FORMAT_NAME}' (found {_short(fmt)})"])
+    if "version" not in doc:
+        raise CircuitFileError(source, ["version: is required (a whole number, 1 for this format)"])
+    version = doc["version"]
     if not isinstance(version, int) or isinstance(version, bool) or version < 1:
-        raise CircuitFileError(source, [f"version: must be a whole number >= 1 (found {version!r})"])
+        raise CircuitFileError(source, [
+            f"version: must be a whole number >= 1 (found {_short(version)})"])
     if version > FORMAT_VERSION:
         raise CircuitFileError(source, [
             f"version: is {version}, newer than this program reads ({FORMAT_VERSION}); "
             "update circuitlab to open it"])
+
+
+def _json_kind(value) -> str:
+    names = {list: "an array", str: "a string", bool: "true/false", type(None): "null",
+             int: "a number", float: "a number", dict: "an object"}
+    return names.get(type(value), type(value).__name__)
+
+
+def _short(value) -> str:
+    """A value for a message: short and never huge (a file may hold anything there)."""
+    if isinstance(value, (dict, list)):
+        return _json_kind(value)
+    text = repr(value) if not isinstance(value, int) or abs(value) < 10**12 else "a huge number"
+    return text if len(text) <= 40 else text[:37] + "..."
+
+
+def _capped(problems: list[str]) -> list[str]:
+    if len(problems) <= MAX_REPORTED_PROBLEMS:
+        return problems
+    rest = len(problems) - MAX_REPORTED_PROBLEMS
+    return problems[:MAX_REPORTED_PROBLEMS] + [f"... and {rest} more problems"]
 
 
 _REASONS = {
@@ -124,22 +285,43 @@ _REASONS = {
     "bool_type": "must be true or false",
     "bool_parsing": "must be true or false",
     "string_type": "must be text",
+    "string_unicode": "must be valid Unicode text",
     "list_type": "must be a list",
     "dict_type": "must be an object",
     "model_type": "must be an object",
     "model_attributes_type": "must be an object",
+    "none_required": "must be null",
+}
+
+_BOUNDS = {
+    "greater_than": "must be greater than {gt}",
+    "greater_than_equal": "must be {ge} or more",
+    "less_than": "must be less than {lt}",
+    "less_than_equal": "must be {le} or less",
+    "string_too_short": "must have at least {min_length} characters",
+    "string_too_long": "must have at most {max_length} characters",
+    "too_short": "must have at least {min_length} entries",
+    "too_long": "must have at most {max_length} entries",
 }
 
 
-def _describe(error: dict) -> str:
-    """``connections[3].weight: must be a finite number`` from a pydantic error."""
+def describe_error(error: dict) -> str:
+    """``connections[3].weight: must be a finite number`` from one pydantic error dict."""
     path = ""
     for part in error["loc"]:
-        path += f"[{part}]" if isinstance(part, int) else (f".{part}" if path else str(part))
-    reason = _REASONS.get(error["type"])
+        if part == "[key]":
+            path += " (a key)"
+        elif isinstance(part, int):
+            path += f"[{part}]"
+        else:
+            path += f".{part}" if path else str(part)
+    kind = error["type"]
+    reason = _REASONS.get(kind)
+    if reason is None and kind in _BOUNDS and error.get("ctx"):
+        reason = _BOUNDS[kind].format(**error["ctx"])
     if reason is None:
         msg = error["msg"]
-        if error["type"] == "string_pattern_mismatch":
+        if kind == "string_pattern_mismatch":
             msg = "must be a unit name: 1-64 letters, digits, '_', '.' or '-', starting with a letter or '_'"
         elif msg.startswith("Input should be"):
             msg = "must be" + msg[len("Input should be"):]

@@ -10,6 +10,8 @@ from dataclasses import dataclass
 
 from circuitlab.model.circuit import Circuit
 from circuitlab.model.schedule import clamp_mask, schedule_covers_step0, target_mask
+from circuitlab.model.sequences import Sequence
+from circuitlab.model.units import Unit
 
 
 @dataclass(frozen=True)
@@ -20,7 +22,8 @@ class Problem:
     message: str
     unit: str | None = None
     sequence: str | None = None
-    step: int | None = None
+    step: int | None = None  # the first step concerned
+    steps: tuple[int, ...] = ()  # every step concerned, for problems about cells
 
     def __str__(self) -> str:
         return f"{self.path}: {self.message}"
@@ -121,30 +124,61 @@ def _check_sequences(circuit: Circuit, out: list[Problem]) -> None:
                     out.append(Problem(path, f"has {len(row)} values but the sequence has "
                                        f"{seq.steps} steps (0..{seq.length})", name, seq.name))
                     rows_ok = False
-                for t, v in enumerate(row):
-                    if v is not None and not math.isfinite(v):
-                        out.append(Problem(f"{path}[{t}]", "must be a finite number", name, seq.name, t))
+                bad = [t for t, v in enumerate(row) if v is not None and not math.isfinite(v)]
+                if bad:
+                    out.append(Problem(f"{path}[{bad[0]}]", "must be a finite number"
+                                       + (f" (and so must {_steps_text(bad[1:])})" if len(bad) > 1 else ""),
+                                       name, seq.name, bad[0], tuple(bad)))
         if not rows_ok:
             continue
         for unit in circuit.units:
-            sched = circuit.schedule_for(unit.name)
-            cmask = clamp_mask(unit, sched, seq)
-            tmask = target_mask(unit, sched, seq)
-            for t in range(seq.steps):
-                cell = f"{base}: unit '{unit.name}' at step {t}"
-                if cmask[t] and tmask[t]:
-                    out.append(Problem(cell, "is both clamped and targeted", unit.name, seq.name, t))
-                if cmask[t] and seq.clamp_value(unit.name, t) is None:
-                    out.append(Problem(cell, "is clamped but the sequence has no value for it",
-                                       unit.name, seq.name, t))
-                if tmask[t]:
-                    d = seq.target_value(unit.name, t)
-                    if d is None:
-                        out.append(Problem(cell, "carries a target but the sequence has no value for it",
-                                           unit.name, seq.name, t))
-                    elif cross_entropy and not 0.0 <= d <= 1.0:
-                        out.append(Problem(cell, f"has target {d:g}, but cross-entropy targets must "
-                                           "lie in [0, 1]", unit.name, seq.name, t))
-            if seq.target_value(unit.name, 0) is not None:
-                out.append(Problem(f"{base}.targets.{unit.name}[0]", "step 0 is the initial state "
-                                   "and cannot carry a target", unit.name, seq.name, 0))
+            _check_cells(circuit, unit, si, seq, cross_entropy, out)
+
+
+def _check_cells(circuit: Circuit, unit: Unit, si: int, seq: Sequence, cross_entropy: bool,
+                 out: list[Problem]) -> None:
+    """One problem per unit, sequence and kind, listing every step it concerns."""
+    base = f"sequences[{si}]"
+    name = unit.name
+    sched = circuit.schedule_for(name)
+    cmask = clamp_mask(unit, sched, seq)
+    tmask = target_mask(unit, sched, seq)
+    steps = range(seq.steps)
+    both = [t for t in steps if cmask[t] and tmask[t]]
+    no_clamp = [t for t in steps if cmask[t] and seq.clamp_value(name, t) is None]
+    no_target = [t for t in steps if tmask[t] and seq.target_value(name, t) is None]
+    if both:
+        out.append(Problem(base, f"unit '{name}' is both clamped and targeted at {_steps_text(both)}",
+                           name, seq.name, both[0], tuple(both)))
+    if no_clamp:
+        out.append(Problem(f"{base}.clamps.{name}", f"'{name}' is clamped at {_steps_text(no_clamp)}, "
+                           "but the sequence has no value there", name, seq.name, no_clamp[0],
+                           tuple(no_clamp)))
+    if no_target:
+        out.append(Problem(f"{base}.targets.{name}", f"'{name}' carries a target at "
+                           f"{_steps_text(no_target)}, but the sequence has no value there",
+                           name, seq.name, no_target[0], tuple(no_target)))
+    if cross_entropy:
+        outside = [t for t in steps if tmask[t] and seq.target_value(name, t) is not None
+                   and not 0.0 <= seq.target_value(name, t) <= 1.0]
+        if outside:
+            d = seq.target_value(name, outside[0])
+            out.append(Problem(f"{base}.targets.{name}", f"cross-entropy targets must lie in [0, 1], "
+                               f"but '{name}' has {d:g} at step {outside[0]}"
+                               + (f" (outside at {_steps_text(outside)})" if len(outside) > 1 else ""),
+                               name, seq.name, outside[0], tuple(outside)))
+    if seq.target_value(name, 0) is not None:
+        out.append(Problem(f"{base}.targets.{name}[0]", "step 0 is the initial state "
+                           "and cannot carry a target", name, seq.name, 0, (0,)))
+
+
+def _steps_text(steps: list[int]) -> str:
+    """``step 3``, ``steps 0-5`` or ``steps 1, 3, 5-7``."""
+    runs: list[list[int]] = []
+    for t in steps:
+        if runs and t == runs[-1][1] + 1:
+            runs[-1][1] = t
+        else:
+            runs.append([t, t])
+    parts = [str(a) if a == b else f"{a}-{b}" for a, b in runs]
+    return ("step " if len(steps) == 1 else "steps ") + ", ".join(parts)
