@@ -1,0 +1,64 @@
+"""Start the editor: the application object, the main window, the screenshot mode."""
+
+import importlib
+import os
+import sys
+
+# Hooks run in --screenshot mode after the file is loaded and before the picture is taken:
+# "module:function" taking (window, args). Other parts of the editor add theirs here.
+BEFORE_SCREENSHOT: list[str] = []
+
+
+def make_application(argv: list[str] | None = None):
+    """The QApplication (made once), named so QSettings and QStandardPaths use 'circuitlab'."""
+    from PySide6.QtWidgets import QApplication
+
+    app = QApplication.instance() or QApplication(argv if argv is not None else sys.argv[:1])
+    app.setOrganizationName("circuitlab")
+    app.setApplicationName("circuitlab")
+    app.setApplicationDisplayName("circuitlab")
+    return app
+
+
+def run_editor(args) -> int:
+    """Open the editor on ``args.file``; with ``args.screenshot``, render offscreen and exit."""
+    screenshot = getattr(args, "screenshot", None)
+    if screenshot:
+        os.environ["QT_QPA_PLATFORM"] = "offscreen"
+        from circuitlab.gui.screenshot import parse_size
+        try:
+            size = parse_size(args.size)
+        except ValueError as exc:
+            print(f"circuitlab: {exc}", file=sys.stderr)
+            return 2
+    app = make_application()
+    from PySide6.QtCore import QTimer
+
+    from circuitlab.gui.main_window import MainWindow
+
+    window = MainWindow(restore_layout=not screenshot)
+    if args.file:
+        from circuitlab.model import CircuitFileError, load_circuit
+        if screenshot:
+            try:
+                circuit = load_circuit(args.file)
+            except CircuitFileError as exc:
+                print(f"circuitlab: {exc}", file=sys.stderr)
+                return 1
+            window.document.replace(circuit, os.path.abspath(args.file))
+        else:
+            window.files.open_path(args.file, ask=False)
+    if screenshot:
+        from circuitlab.gui.screenshot import render_window
+        for entry in BEFORE_SCREENSHOT:
+            module, func = entry.split(":")
+            getattr(importlib.import_module(module), func)(window, args)
+        ok = render_window(window, screenshot, size)
+        window.files.shutdown()
+        if not ok:
+            print(f"circuitlab: could not write {screenshot}", file=sys.stderr)
+            return 1
+        return 0
+    window.show()
+    QTimer.singleShot(0, window.files.offer_recovery)
+    return app.exec()

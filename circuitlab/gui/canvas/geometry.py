@@ -1,0 +1,67 @@
+"""Paths of connections: straight arrows, bent arrows for reciprocal pairs, loops for self-connections."""
+
+import math
+
+from PySide6.QtCore import QPointF
+from PySide6.QtGui import QPainterPath, QPolygonF
+
+from circuitlab.gui.canvas.style import UNIT_RADIUS
+
+ARROW_LENGTH = 11.0
+ARROW_HALF_WIDTH = 5.0
+
+
+def _unit(dx: float, dy: float) -> tuple[float, float]:
+    d = math.hypot(dx, dy) or 1.0
+    return dx / d, dy / d
+
+
+def edge_path(p: QPointF, q: QPointF, bent: bool, radius: float = UNIT_RADIUS) -> tuple[QPainterPath, QPolygonF]:
+    """The line and the arrowhead of ``p -> q``.
+
+    A connection whose reverse also exists is bent to its own left, so the two
+    arrows of a reciprocal pair never overlap. ``p == q`` draws a loop above the unit.
+    """
+    if p == q:
+        return _loop(p, radius)
+    dx, dy = _unit(q.x() - p.x(), q.y() - p.y())
+    dist = math.hypot(q.x() - p.x(), q.y() - p.y())
+    if not bent:
+        start = QPointF(p.x() + dx * radius, p.y() + dy * radius)
+        tip = QPointF(q.x() - dx * (radius + 1.5), q.y() - dy * (radius + 1.5))
+        path = QPainterPath(start)
+        path.lineTo(QPointF(tip.x() - dx * ARROW_LENGTH * 0.7, tip.y() - dy * ARROW_LENGTH * 0.7))
+        return path, _arrow(tip, dx, dy)
+    # left of the direction of travel, in screen coordinates (y grows downwards)
+    nx, ny = dy, -dx
+    bend = min(70.0, max(16.0, 0.2 * dist))
+    cx = (p.x() + q.x()) / 2 + nx * bend
+    cy = (p.y() + q.y()) / 2 + ny * bend
+    sx, sy = _unit(cx - p.x(), cy - p.y())
+    ex, ey = _unit(q.x() - cx, q.y() - cy)
+    start = QPointF(p.x() + sx * radius, p.y() + sy * radius)
+    tip = QPointF(q.x() - ex * (radius + 1.5), q.y() - ey * (radius + 1.5))
+    path = QPainterPath(start)
+    path.quadTo(QPointF(cx, cy), QPointF(tip.x() - ex * ARROW_LENGTH * 0.7, tip.y() - ey * ARROW_LENGTH * 0.7))
+    return path, _arrow(tip, ex, ey)
+
+
+def _loop(p: QPointF, radius: float) -> tuple[QPainterPath, QPolygonF]:
+    spread = math.radians(28)
+    reach = radius * 2.9
+    sx, sy = -math.sin(spread), -math.cos(spread)   # leaves up and to the left
+    ex, ey = math.sin(spread), -math.cos(spread)    # returns from up and to the right
+    start = QPointF(p.x() + sx * radius, p.y() + sy * radius)
+    tip = QPointF(p.x() + ex * (radius + 1.5), p.y() + ey * (radius + 1.5))
+    c1 = QPointF(p.x() - radius * 1.5, p.y() - reach)
+    c2 = QPointF(p.x() + radius * 1.5, p.y() - reach)
+    dx, dy = _unit(tip.x() - c2.x(), tip.y() - c2.y())
+    path = QPainterPath(start)
+    path.cubicTo(c1, c2, QPointF(tip.x() - dx * ARROW_LENGTH * 0.7, tip.y() - dy * ARROW_LENGTH * 0.7))
+    return path, _arrow(tip, dx, dy)
+
+
+def _arrow(tip: QPointF, dx: float, dy: float) -> QPolygonF:
+    bx, by = tip.x() - dx * ARROW_LENGTH, tip.y() - dy * ARROW_LENGTH
+    nx, ny = -dy * ARROW_HALF_WIDTH, dx * ARROW_HALF_WIDTH
+    return QPolygonF([tip, QPointF(bx + nx, by + ny), QPointF(bx - nx, by - ny)])

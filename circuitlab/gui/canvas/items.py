@@ -1,0 +1,266 @@
+"""The two kinds of items on the canvas: units and connections.
+
+Unit markers (drawn on the rim, our own design):
+- a teal wedge pointing into the left rim: the unit is clamped to data
+  (filled when clamped at every step, outlined when only at some steps);
+- an ochre ring with a dot on the right rim: the unit carries targets
+  (filled at every step, outlined at some steps);
+- a violet diamond on the bottom rim: the unit learns its initial state.
+Inside the unit a small curve shows its activation function, and a '+' or
+'-' on the upper right its sign constraint.
+"""
+
+import math
+from dataclasses import dataclass
+
+from PySide6.QtCore import QPointF, QRectF, Qt
+from PySide6.QtGui import (QBrush, QColor, QFont, QFontMetricsF, QPainter, QPainterPath,
+                           QPainterPathStroker, QPen, QPolygonF)
+from PySide6.QtWidgets import QGraphicsItem, QStyle
+
+from circuitlab.gui.canvas import style
+from circuitlab.gui.canvas.geometry import edge_path
+from circuitlab.model import Circuit, Connection, Unit
+
+R = style.UNIT_RADIUS
+RIM_BAND = 8.0  # a press this close inside the rim starts a connection instead of a move
+
+
+@dataclass(frozen=True)
+class UnitLook:
+    """Everything a unit item draws besides its position."""
+
+    name: str
+    activation: str
+    clamp: str   # "", "some", "every"
+    target: str  # "", "some", "every"
+    learned: bool
+    sign: str | None
+
+    @staticmethod
+    def of(unit: Unit, circuit: Circuit) -> "UnitLook":
+        sched = circuit.schedule_for(unit.name)
+        if sched.clamp == "every":
+            clamp = "every"
+        elif sched.clamp != "none" or unit.initial_mode == "clamped":
+            clamp = "some"
+        else:
+            clamp = ""
+        target = {"none": "", "every": "every"}.get(sched.target, "some")
+        return UnitLook(unit.name, unit.activation, clamp, target,
+                        unit.initial_mode == "learned", unit.sign)
+
+
+def _name_font() -> QFont:
+    f = QFont()
+    f.setPointSizeF(9.5)
+    return f
+
+
+NAME_FONT = _name_font()
+NAME_METRICS = QFontMetricsF(NAME_FONT)
+NAME_WIDTH = 120.0
+
+
+class UnitItem(QGraphicsItem):
+    """A unit: a circle with its activation glyph, markers and name."""
+
+    def __init__(self, unit: Unit, look: UnitLook):
+        super().__init__()
+        self.unit = unit
+        self.look = look
+        self.edges: list["ConnectionItem"] = []
+        self.setFlags(QGraphicsItem.ItemIsSelectable | QGraphicsItem.ItemIsMovable
+                      | QGraphicsItem.ItemSendsGeometryChanges)
+        self.setAcceptHoverEvents(True)
+        self.setCacheMode(QGraphicsItem.DeviceCoordinateCache)
+        self.setZValue(1.0)
+        self.setPos(unit.x, unit.y)
+
+    @property
+    def name(self) -> str:
+        return self.unit.name
+
+    def set_look(self, look: UnitLook) -> None:
+        if look != self.look:
+            self.look = look
+            self.update()
+
+    def in_rim_band(self, local: QPointF) -> bool:
+        return math.hypot(local.x(), local.y()) >= R - RIM_BAND
+
+    # ---------------------------------------------------------------- drawing
+    def boundingRect(self) -> QRectF:
+        return QRectF(-NAME_WIDTH / 2, -R - 8, NAME_WIDTH, 2 * R + 34)
+
+    def shape(self) -> QPainterPath:
+        path = QPainterPath()
+        path.addEllipse(QPointF(0, 0), R + 3, R + 3)
+        return path
+
+    def paint(self, painter: QPainter, option, widget=None) -> None:
+        painter.setRenderHint(QPainter.Antialiasing)
+        selected = bool(option.state & QStyle.State_Selected)
+        look = self.look
+        painter.setPen(QPen(style.UNIT_SELECTED if selected else style.UNIT_OUTLINE, 2.6 if selected else 1.5))
+        painter.setBrush(style.UNIT_FILL)
+        painter.drawEllipse(QPointF(0, 0), R, R)
+        _draw_activation(painter, look.activation)
+        if look.sign:
+            painter.setPen(QPen(style.GLYPH, 1.6))
+            cx, cy = R * 0.52, -R * 0.52
+            painter.drawLine(QPointF(cx - 3, cy), QPointF(cx + 3, cy))
+            if look.sign == "excitatory":
+                painter.drawLine(QPointF(cx, cy - 3), QPointF(cx, cy + 3))
+        if look.clamp:
+            draw_clamp_mark(painter, QPointF(-R, 0), look.clamp == "every")
+        if look.target:
+            draw_target_mark(painter, QPointF(R, 0), look.target == "every")
+        if look.learned:
+            draw_learned_mark(painter, QPointF(0, R))
+        painter.setFont(NAME_FONT)
+        painter.setPen(style.UNIT_TEXT)
+        text = NAME_METRICS.elidedText(look.name, Qt.ElideMiddle, NAME_WIDTH)
+        painter.drawText(QRectF(-NAME_WIDTH / 2, R + 7, NAME_WIDTH, 18), Qt.AlignHCenter | Qt.AlignTop, text)
+
+    # ------------------------------------------------------------- behaviour
+    def itemChange(self, change, value):
+        if change == QGraphicsItem.ItemPositionChange and self.scene() is not None:
+            return self.scene().snapped(value)
+        if change == QGraphicsItem.ItemPositionHasChanged:
+            for e in self.edges:
+                e.update_geometry()
+        return super().itemChange(change, value)
+
+    def hoverEnterEvent(self, event) -> None:
+        u = self.unit
+        sched_text = self.scene().describe_unit(u) if self.scene() is not None else ""
+        self.setToolTip(sched_text)
+        super().hoverEnterEvent(event)
+
+    def hoverMoveEvent(self, event) -> None:
+        self.setCursor(Qt.CrossCursor if self.in_rim_band(event.pos()) else Qt.ArrowCursor)
+        super().hoverMoveEvent(event)
+
+
+def _draw_activation(painter: QPainter, activation: str) -> None:
+    """A tiny plot of the activation function, 22 x 14 px, centred in the unit."""
+    w, h = 11.0, 7.0
+    painter.setPen(QPen(style.GLYPH_AXIS, 1.0))
+    base = 0.0 if activation == "tanh" else h  # tanh swings around zero; the others sit on a floor
+    painter.drawLine(QPointF(-w, base), QPointF(w, base))
+    painter.drawLine(QPointF(0, -h - 1), QPointF(0, h + 1))
+    pts = []
+    for i in range(23):
+        x = -w + i * (2 * w / 22)
+        s = x / w * 4.0
+        if activation == "logistic":
+            y = h - 2 * h / (1 + math.exp(-s))
+        elif activation == "tanh":
+            y = -h * math.tanh(s)
+        elif activation == "relu":
+            y = h - max(0.0, x / w) * 2 * h
+        else:
+            y = -x / w * h
+        pts.append(QPointF(x, y))
+    painter.setPen(QPen(style.GLYPH, 1.6, Qt.SolidLine, Qt.RoundCap, Qt.RoundJoin))
+    painter.setBrush(Qt.NoBrush)
+    painter.drawPolyline(QPolygonF(pts))
+
+
+def draw_clamp_mark(painter: QPainter, at: QPointF, filled: bool) -> None:
+    """A wedge pointing into the unit from the left: data held onto it."""
+    x, y = at.x(), at.y()
+    poly = QPolygonF([QPointF(x + 4, y), QPointF(x - 7, y - 6.5), QPointF(x - 7, y + 6.5)])
+    painter.setPen(QPen(style.CLAMP_MARK, 1.6, Qt.SolidLine, Qt.RoundCap, Qt.RoundJoin))
+    painter.setBrush(style.CLAMP_MARK if filled else style.UNIT_FILL)
+    painter.drawPolygon(poly)
+
+
+def draw_target_mark(painter: QPainter, at: QPointF, filled: bool) -> None:
+    """A ring with a centre dot: the unit's state is compared with a target."""
+    painter.setPen(QPen(style.TARGET_MARK, 1.8))
+    painter.setBrush(style.TARGET_MARK if filled else style.UNIT_FILL)
+    painter.drawEllipse(at, 6.0, 6.0)
+    painter.setPen(Qt.NoPen)
+    painter.setBrush(style.UNIT_FILL if filled else style.TARGET_MARK)
+    painter.drawEllipse(at, 2.0, 2.0)
+
+
+def draw_learned_mark(painter: QPainter, at: QPointF) -> None:
+    """A diamond: the state at step 0 is a trained parameter."""
+    x, y = at.x(), at.y()
+    poly = QPolygonF([QPointF(x, y - 6), QPointF(x + 6, y), QPointF(x, y + 6), QPointF(x - 6, y)])
+    painter.setPen(QPen(style.LEARNED_MARK, 1.4))
+    painter.setBrush(style.LEARNED_MARK)
+    painter.drawPolygon(poly)
+
+
+class ConnectionItem(QGraphicsItem):
+    """A connection arrow; colour and width show the weight's sign and size."""
+
+    def __init__(self, connection: Connection, source: UnitItem, target: UnitItem):
+        super().__init__()
+        self.connection = connection
+        self.source = source
+        self.target = target
+        self.bent = False
+        self.color = style.ZERO_WEIGHT
+        self.width = style.MIN_EDGE_WIDTH
+        self.frozen = not connection.trains
+        self._path = QPainterPath()
+        self._arrow = QPolygonF()
+        self._shape: QPainterPath | None = None
+        self._bounds = QRectF()
+        self.setFlags(QGraphicsItem.ItemIsSelectable)
+        self.setAcceptHoverEvents(True)
+        self.setZValue(0.0)
+
+    @property
+    def key(self) -> tuple[str, str]:
+        return self.connection.key
+
+    def update_geometry(self) -> None:
+        self.prepareGeometryChange()
+        self._path, self._arrow = edge_path(self.source.pos(), self.target.pos(), self.bent)
+        self._shape = None
+        pad = style.MAX_EDGE_WIDTH + 2
+        self._bounds = self._path.boundingRect().united(self._arrow.boundingRect()).adjusted(-pad, -pad, pad, pad)
+
+    def set_style(self, color: QColor, width: float, frozen: bool) -> None:
+        if color != self.color or width != self.width or frozen != self.frozen:
+            self.color, self.width, self.frozen = color, width, frozen
+            self.update()
+
+    def boundingRect(self) -> QRectF:
+        return self._bounds
+
+    def shape(self) -> QPainterPath:
+        if self._shape is None:
+            stroker = QPainterPathStroker()
+            stroker.setWidth(max(9.0, self.width + 5))
+            self._shape = stroker.createStroke(self._path)
+            self._shape.addPolygon(self._arrow)
+        return self._shape
+
+    def paint(self, painter: QPainter, option, widget=None) -> None:
+        painter.setRenderHint(QPainter.Antialiasing)
+        selected = bool(option.state & QStyle.State_Selected)
+        if selected:
+            painter.setPen(QPen(style.SELECTED_EDGE, self.width + 4.0, Qt.SolidLine, Qt.RoundCap))
+            painter.setBrush(Qt.NoBrush)
+            painter.drawPath(self._path)
+        pen = QPen(self.color, self.width, Qt.DashLine if self.frozen else Qt.SolidLine, Qt.FlatCap)
+        if self.frozen:
+            pen.setDashPattern([3.0, 2.0])
+        painter.setPen(pen)
+        painter.setBrush(Qt.NoBrush)
+        painter.drawPath(self._path)
+        painter.setPen(QPen(style.SELECTED_EDGE if selected else self.color, 1.0))
+        painter.setBrush(QBrush(self.color))
+        painter.drawPolygon(self._arrow)
+
+    def hoverEnterEvent(self, event) -> None:
+        if self.scene() is not None:
+            self.setToolTip(self.scene().describe_connection(self.connection))
+        super().hoverEnterEvent(event)

@@ -1,0 +1,186 @@
+"""The scene: one item per unit and connection of the document's circuit, kept in step incrementally.
+
+Structure changes add and remove only the items that changed; value changes
+restyle items in place; ``refresh_weights`` touches only connection colours
+and widths, cheap enough to run at every training snapshot.
+"""
+
+import math
+
+from PySide6.QtCore import QPointF, QRectF, Signal
+from PySide6.QtGui import QPainter, QPen
+from PySide6.QtWidgets import QGraphicsScene
+
+from circuitlab.gui.canvas import style
+from circuitlab.gui.canvas.items import ConnectionItem, UnitItem, UnitLook
+from circuitlab.gui.document import Document
+from circuitlab.model import Connection, Unit
+
+
+class CircuitScene(QGraphicsScene):
+    """Items for ``document.circuit``; emits ``weight_scale_changed`` for the legend."""
+
+    weight_scale_changed = Signal(float)
+
+    def __init__(self, document: Document, parent=None):
+        super().__init__(parent)
+        self.document = document
+        self.snap_to_grid = False
+        self.units: dict[str, UnitItem] = {}
+        self.edges: dict[tuple[str, str], ConnectionItem] = {}
+        self.scale = 1.0
+        self.frozen_positions: set[str] = set()  # units being dragged: their model position lags
+        document.structure_changed.connect(self.sync_structure)
+        document.values_changed.connect(self.refresh_values)
+        document.data_changed.connect(self.refresh_looks)
+        document.replaced.connect(self.rebuild)
+        self.rebuild()
+
+    # ------------------------------------------------------------------ sync
+    def rebuild(self) -> None:
+        """Drop every item and build them afresh (a different circuit was loaded)."""
+        self.clear()
+        self.units.clear()
+        self.edges.clear()
+        self.sync_structure()
+
+    def sync_structure(self) -> None:
+        c = self.document.circuit
+        old_units = {id(i.unit): i for i in self.units.values()}
+        units: dict[str, UnitItem] = {}
+        for u in c.units:
+            item = old_units.pop(id(u), None)
+            if item is None or item.unit is not u:
+                item = UnitItem(u, UnitLook.of(u, c))
+                self.addItem(item)
+            units[u.name] = item
+        for item in old_units.values():
+            self.removeItem(item)
+        old_edges = {id(e.connection): e for e in self.edges.values()}
+        edges: dict[tuple[str, str], ConnectionItem] = {}
+        for conn in c.connections:
+            src, dst = units.get(conn.source), units.get(conn.target)
+            if src is None or dst is None:
+                continue
+            item = old_edges.pop(id(conn), None)
+            if item is None or item.connection is not conn or item.source is not src or item.target is not dst:
+                if item is not None:
+                    self.removeItem(item)
+                item = ConnectionItem(conn, src, dst)
+                self.addItem(item)
+            edges[conn.key] = item
+        for item in old_edges.values():
+            self.removeItem(item)
+        self.units, self.edges = units, edges
+        for u in units.values():
+            u.edges = []
+        for key, e in edges.items():
+            e.source.edges.append(e)
+            if e.target is not e.source:
+                e.target.edges.append(e)
+            e.bent = key[0] != key[1] and (key[1], key[0]) in edges
+            e.update_geometry()
+        self.refresh_values()
+
+    def refresh_values(self) -> None:
+        """Positions, markers and weights from the model (after edits, undo, redo)."""
+        for name, item in self.units.items():
+            u = item.unit
+            if name not in self.frozen_positions and (item.x() != u.x or item.y() != u.y):
+                item.setPos(u.x, u.y)
+        self.refresh_looks()
+        self.refresh_weights()
+
+    def refresh_looks(self) -> None:
+        c = self.document.circuit
+        for item in self.units.values():
+            item.set_look(UnitLook.of(item.unit, c))
+
+    def refresh_weights(self, weights=None) -> None:
+        """Restyle the arrows from the model's weights, or from ``weights`` given in connection order.
+
+        Only colours and widths change, so this is cheap enough for live training.
+        """
+        conns = self.document.circuit.connections
+        values = [c.weight for c in conns] if weights is None else [float(w) for w in weights]
+        scale = style.weight_scale(values)
+        if scale != self.scale:
+            self.scale = scale
+            self.weight_scale_changed.emit(scale)
+        edges = self.edges
+        for conn, w in zip(conns, values):
+            item = edges.get(conn.key)
+            if item is not None:
+                item.set_style(style.weight_color(w, scale), style.weight_width(w, scale), not conn.trains)
+
+    # ------------------------------------------------------------- selection
+    def selected_units(self) -> list[str]:
+        """Names of the selected units, in circuit order."""
+        return [n for n, i in self.units.items() if i.isSelected()]
+
+    def selected_connections(self) -> list[tuple[str, str]]:
+        return [k for k, i in self.edges.items() if i.isSelected()]
+
+    def select(self, units=(), connections=()) -> None:
+        """Select exactly these units and connections."""
+        units, connections = set(units), set(map(tuple, connections))
+        self.blockSignals(True)
+        for n, i in self.units.items():
+            i.setSelected(n in units)
+        for k, i in self.edges.items():
+            i.setSelected(k in connections)
+        self.blockSignals(False)
+        self.selectionChanged.emit()
+
+    def unit_at(self, pos: QPointF) -> UnitItem | None:
+        for item in self.items(pos):
+            if isinstance(item, UnitItem):
+                return item
+        return None
+
+    # ------------------------------------------------------------------ grid
+    def snapped(self, pos: QPointF) -> QPointF:
+        if not self.snap_to_grid:
+            return pos
+        g = style.GRID_STEP
+        return QPointF(round(pos.x() / g) * g, round(pos.y() / g) * g)
+
+    def drawBackground(self, painter: QPainter, rect: QRectF) -> None:
+        painter.fillRect(rect, style.BACKGROUND)
+        if not self.snap_to_grid:
+            return
+        g = style.GRID_STEP
+        scale = painter.worldTransform().m11()
+        if g * scale < 8:
+            return
+        painter.setPen(QPen(style.GRID_DOT, 2.0 / max(scale, 1e-3)))
+        x0, y0 = math.floor(rect.left() / g) * g, math.floor(rect.top() / g) * g
+        points = [QPointF(x0 + i * g, y0 + j * g)
+                  for i in range(int(rect.width() / g) + 2) for j in range(int(rect.height() / g) + 2)]
+        painter.drawPoints(points)
+
+    # ------------------------------------------------------------------ text
+    def describe_unit(self, unit: Unit) -> str:
+        c = self.document.circuit
+        sched = c.schedule_for(unit.name)
+        lines = [f"<b>{unit.name}</b> ({unit.activation})",
+                 f"bias {unit.bias:+.4g}" + ("" if unit.bias_trains else " (frozen)")]
+        if unit.initial_mode == "fixed":
+            lines.append(f"initial state {unit.initial_state():.4g}")
+        else:
+            lines.append(f"initial state {unit.initial_mode}")
+        if sched.clamp != "none":
+            lines.append(f"clamped: {sched.clamp}")
+        if sched.target != "none":
+            lines.append(f"targets: {sched.target}")
+        if unit.sign:
+            lines.append(f"{unit.sign} (outgoing weights {'≥' if unit.sign == 'excitatory' else '≤'} 0)")
+        return "<br>".join(lines)
+
+    def describe_connection(self, conn: Connection) -> str:
+        text = f"<b>{conn.source} → {conn.target}</b><br>weight {conn.weight:+.6g}"
+        if not conn.trains:
+            text += "<br>frozen"
+        if conn.tie:
+            text += f"<br>tie group '{conn.tie}'"
+        return text
