@@ -1,0 +1,293 @@
+"""The trainer: a plain object that advances training one epoch per call.
+
+It compiles a copy of the circuit once, starts from the values the circuit
+holds, and follows the gradient of the loss (the mean over the batch's
+target cells of the per-cell loss) plus, with weight decay lambda, the
+penalty ``0.5 * lambda * sum of theta_w**2`` over the weight parameters
+(a tie group counts once; biases and initial states are not decayed).
+Everything random (mini-batch order, ``reinitialise``) comes from seeded
+NumPy Generators, so a run repeats bit for bit on one machine.
+
+A non-finite loss, gradient or parameter stops training: the parameters
+go back to the last ones whose loss was finite, the history is kept, and
+``stopped_because`` says what happened.
+"""
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from circuitlab.engine.backward import Backward, backward, loss_value
+from circuitlab.engine.compile import Compiled, Parameters, compile_circuit
+from circuitlab.engine.errors import EngineError
+from circuitlab.engine.forward import Activity, forward
+from circuitlab.engine.optimizers import clip_by_global_norm, learning_rate, make_optimizer
+from circuitlab.model import Circuit, TrainingRecord, TrainingSettings
+
+
+@dataclass(eq=False)
+class EpochRecord:
+    """What one epoch did.
+
+    ``loss``: the training loss, measured at the parameters each mini-batch
+    started from (one batch: the parameters the epoch started from), the
+    cell-weighted mean over the batches; ``held_out_loss``: the same for the
+    held-out sequences at the parameters the epoch started from (None if
+    there are none); ``grad_norm``: the norm of the tie-summed gradient
+    (with weight decay, before clipping), the mean over the batches;
+    ``e_norm`` (T+1,): the norm over units and training sequences of e(t);
+    ``parameters``: the parameters after the epoch; ``finite``: False if
+    the epoch hit a NaN or infinity (training then stopped).
+    """
+
+    epoch: int
+    loss: float
+    held_out_loss: float | None
+    grad_norm: float
+    learning_rate: float
+    e_norm: np.ndarray
+    finite: bool
+    parameters: Parameters
+    decay_penalty: float = 0.0
+
+
+class Trainer:
+    """Trains a copy of ``circuit`` with its ``circuit.training`` settings.
+
+    ``epochs`` overrides the settings' maximum number of epochs. Raises
+    ``EngineError`` if the circuit has problems, no training sequences or
+    no target cells in them.
+    """
+
+    def __init__(self, circuit: Circuit, epochs: int | None = None):
+        self._max_epochs = epochs
+        self.history: list[EpochRecord] = []
+        self.done = False
+        self.stopped_because: str | None = None
+        self._load(circuit, keep_state=False)
+
+    # ------------------------------------------------------------ set-up
+    def _load(self, circuit: Circuit, keep_state: bool) -> None:
+        circuit = circuit.copy()
+        compiled = compile_circuit(circuit)
+        train = np.flatnonzero(~compiled.held_out)
+        held = np.flatnonzero(compiled.held_out)
+        if train.size == 0:
+            raise EngineError("there is nothing to train on: every sequence is held out (or there are none)")
+        train_set = compiled.subset(train)
+        if train_set.target_cells == 0:
+            raise EngineError("there is nothing to learn: no training sequence has a target cell")
+        old_labels = getattr(self, "compiled", None) and self.compiled.param_labels
+        self.circuit = circuit
+        self.settings: TrainingSettings = circuit.training
+        self.compiled = compiled
+        self._train_idx, self._held_idx = train, held
+        self._train_set = train_set
+        self._held_set = compiled.subset(held) if held.size else None
+        self._base = compiled.parameters_from_circuit()
+        self._theta = compiled.pack(self._base)
+        self._lo, self._hi = compiled.bounds()
+        self._good_theta = self._theta.copy()
+        nw = compiled.n_weight_params
+        self._decay_mask = np.zeros(compiled.n_params, dtype=bool)
+        self._decay_mask[:nw] = True
+        if not (keep_state and old_labels == compiled.param_labels
+                and type(self._optimizer) is type(make_optimizer(self.settings, 0))):
+            self._optimizer = make_optimizer(self.settings, compiled.n_params)
+            self._rng = np.random.default_rng(self.settings.seed)
+
+    @property
+    def max_epochs(self) -> int:
+        return self._max_epochs if self._max_epochs is not None else self.settings.epochs
+
+    @property
+    def epochs_done(self) -> int:
+        return len(self.history)
+
+    @property
+    def parameters(self) -> Parameters:
+        """The current weights, biases and initial states (a copy)."""
+        return self.compiled.unpack(self._theta, self._base)
+
+    # ---------------------------------------------------------- training
+    def epoch(self) -> EpochRecord:
+        """Run one epoch (every mini-batch once) and return its record."""
+        if self.done:
+            raise EngineError(f"training has stopped: {self.stopped_because}")
+        s = self.settings
+        number = self.epochs_done + 1
+        lr = learning_rate(s, number)
+        with np.errstate(over="ignore", invalid="ignore"):
+            held_loss = self._held_out_loss()
+        batches = self._batches()
+        T = self._train_set.steps
+        e_sq = np.zeros(T + 1)
+        loss_sum, cells, norms, penalty = 0.0, 0, [], 0.0
+        finite = True
+        for batch in batches:
+            params = self.compiled.unpack(self._theta, self._base)
+            with np.errstate(over="ignore", invalid="ignore"):  # overflow is caught below
+                act = forward(batch, params)
+                value, grads, back = backward(batch, params, act, loss=s.loss, truncation=s.truncation)
+            g = batch.pack_gradient(grads)
+            w = self._theta[self._decay_mask]
+            penalty = 0.5 * s.weight_decay * float(w @ w)
+            g[self._decay_mask] += s.weight_decay * w
+            norm = float(np.linalg.norm(g))
+            if np.isfinite(value):
+                self._good_theta = self._theta.copy()
+            if not (np.isfinite(value) and np.isfinite(norm)):
+                finite = False
+                self._stop_non_finite(number, "the loss" if not np.isfinite(value) else "the gradient")
+                break
+            theta = self._optimizer.step(self._theta, clip_by_global_norm(g, s.clip_norm), lr)
+            theta = np.clip(theta, self._lo, self._hi)
+            n_cells = back.target_cells
+            loss_sum += value * n_cells
+            cells += n_cells
+            norms.append(norm)
+            e_sq[:back.e_tm.shape[0]] += np.einsum("tsn,tsn->t", back.e_tm, back.e_tm)
+            if not np.isfinite(theta).all():
+                finite = False
+                self._stop_non_finite(number, "a parameter")
+                break
+            self._theta = theta
+        rec = EpochRecord(
+            epoch=number, loss=loss_sum / cells if finite and cells else float("nan"),
+            held_out_loss=held_loss, grad_norm=float(np.mean(norms)) if norms else float("nan"),
+            learning_rate=lr, e_norm=np.sqrt(e_sq), finite=finite, parameters=self.parameters,
+            decay_penalty=penalty)
+        self.history.append(rec)
+        if not self.done:
+            if s.target_loss is not None and rec.loss <= s.target_loss:
+                self._stop(f"reached the target loss {s.target_loss:g} (loss {rec.loss:.6g}) "
+                           f"after {number} epochs")
+            elif number >= self.max_epochs:
+                self._stop(f"ran the set number of epochs ({self.max_epochs})")
+        return rec
+
+    def run(self, callback=None) -> list[EpochRecord]:
+        """Train until done; ``callback(record)`` after each epoch. Returns the new records."""
+        out = []
+        while not self.done:
+            rec = self.epoch()
+            out.append(rec)
+            if callback is not None:
+                callback(rec)
+        return out
+
+    def _batches(self) -> list[Compiled]:
+        size = self.settings.batch_size
+        n = self._train_idx.size
+        if size == 0 or size >= n:
+            return [self._train_set]
+        order = self._rng.permutation(n)
+        return [self._train_set.subset(order[i:i + size]) for i in range(0, n, size)]
+
+    def _stop(self, reason: str) -> None:
+        self.done = True
+        self.stopped_because = reason
+
+    def _stop_non_finite(self, epoch: int, what: str) -> None:
+        self._theta = self._good_theta.copy()
+        self._stop(f"{what} became NaN or infinite in epoch {epoch}; the parameters are back to "
+                   "the last ones with a finite loss (try a smaller learning rate or gradient clipping)")
+
+    # -------------------------------------------------------- evaluation
+    def loss(self) -> float:
+        """The training loss at the current parameters."""
+        params = self.parameters
+        return loss_value(self._train_set, forward(self._train_set, params), self.settings.loss)
+
+    def _held_out_loss(self) -> float | None:
+        if self._held_set is None:
+            return None
+        params = self.parameters
+        return loss_value(self._held_set, forward(self._held_set, params), self.settings.loss)
+
+    def held_out_loss(self) -> float | None:
+        """The held-out loss at the current parameters (None without held-out sequences)."""
+        return self._held_out_loss()
+
+    def inspect(self, sequence: str | None = None) -> tuple[Compiled, Activity, Backward]:
+        """(Compiled, Activity, Backward) at the current parameters, for the views.
+
+        ``sequence`` None means every sequence (held-out ones included);
+        otherwise only the named one. The backward pass uses the training
+        settings (loss, truncation).
+        """
+        comp = self.compiled
+        if sequence is not None:
+            comp = comp.subset([comp.sequence_index(sequence)])
+        params = self.parameters
+        act = forward(comp, params)
+        _, _, back = backward(comp, params, act, loss=self.settings.loss,
+                              truncation=self.settings.truncation)
+        return comp, act, back
+
+    # --------------------------------------------------- circuit values
+    def write_back(self, circuit: Circuit) -> None:
+        """Store the trained weights, biases and learned initial states in ``circuit``
+        (which must have the trained circuit's units and connections), and the
+        record of this run in ``circuit.trained``."""
+        params = self.parameters
+        comp = self.compiled
+        for (i, j), c in zip(comp.connections, self.circuit.connections):
+            circuit.connection(c.source, c.target).weight = float(params.W[i, j])
+        for j, name in enumerate(comp.unit_names):
+            unit = circuit.unit(name)
+            unit.bias = float(params.bias[j])
+            if unit.initial_mode == "learned":
+                unit.initial_value = float(params.init[j])
+        last = self.history[-1] if self.history else None
+        circuit.trained = TrainingRecord(
+            epochs=self.epochs_done, loss=self.loss(), held_out_loss=self.held_out_loss(),
+            stopped_because=self.stopped_because or (f"paused after {self.epochs_done} epochs" if last else ""))
+        self.circuit = circuit.copy()
+
+    def reinitialise(self, seed: int) -> None:
+        """Draw fresh weights and restart: trainable weights ~ N(0, (init_scale / sqrt(fan-in))^2).
+
+        Fan-in is the number of connections into the weight's target unit (a
+        tie group gets one draw, scaled by its first member's target). Signs
+        are respected (the magnitude takes the allowed sign); trainable biases
+        become 0 and learned initial states their unit's default; frozen
+        values keep theirs. History and optimizer state start afresh.
+        """
+        comp = self.compiled
+        rng = np.random.default_rng(seed)
+        fan_in = np.maximum(comp.connection_mask.sum(axis=0), 1)
+        nw = comp.n_weight_params
+        theta = self._theta.copy()
+        trains = comp.conn_param >= 0
+        params, first = np.unique(comp.conn_param[trains], return_index=True)
+        src, dst = comp.connections[trains][first].T
+        draws = rng.normal(size=nw) * self.settings.init_scale / np.sqrt(fan_in[dst])
+        sign = comp.sign[src, dst]
+        draws = np.where(sign > 0, np.abs(draws), np.where(sign < 0, -np.abs(draws), draws))
+        theta[params] = draws
+        groups = comp.param_groups()
+        theta[groups["biases"]] = 0.0
+        theta[groups["initial states"]] = [
+            0.5 if comp.activation_codes[j] == 0 else 0.0 for j in comp.init_units]
+        self._theta = theta
+        self._good_theta = theta.copy()
+        self._optimizer = make_optimizer(self.settings, comp.n_params)
+        self._rng = np.random.default_rng(self.settings.seed)
+        self.history = []
+        self.done = False
+        self.stopped_because = None
+
+    def update_values(self, circuit: Circuit) -> None:
+        """Take the values and settings of an edited ``circuit`` and carry on training.
+
+        The circuit is recompiled (cheap), so edits of structure, schedule or
+        data are taken too; the optimizer's state is kept when the trainable
+        parameters are the same ones, and the history is kept. A stopped
+        trainer may continue (for example after a smaller learning rate).
+        """
+        self._load(circuit, keep_state=True)
+        self.done = False
+        self.stopped_because = None
+        if self.epochs_done >= self.max_epochs:
+            self._stop(f"ran the set number of epochs ({self.max_epochs})")
