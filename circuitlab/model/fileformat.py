@@ -93,7 +93,7 @@ def loads_circuit(data: str | bytes, source: str = "<text>") -> Circuit:
     try:
         return Circuit.model_validate(doc, strict=True)
     except pydantic.ValidationError as exc:
-        problems = [describe_error(e) for e in exc.errors(include_url=False, include_input=False)]
+        problems = [describe_error(e) for e in exc.errors(include_url=False)]
         raise CircuitFileError(source, _capped(problems)) from exc
     except RecursionError as exc:  # absurdly deep nesting inside a field
         raise CircuitFileError(source, ["(file): is nested too deeply"]) from exc
@@ -111,7 +111,7 @@ def dumps_circuit(circuit: Circuit) -> str:
     try:
         Circuit.model_validate(doc, strict=True)
     except pydantic.ValidationError as exc:
-        problems = _capped([describe_error(e) for e in exc.errors(include_url=False, include_input=False)])
+        problems = _capped([describe_error(e) for e in exc.errors(include_url=False)])
         raise ModelError("the circuit cannot be saved:\n" + "\n".join(f"  {p}" for p in problems)) from exc
     if circuit.sequences_file:  # the sequences live in that CSV file (written by save_circuit)
         doc["sequences"] = []
@@ -120,10 +120,18 @@ def dumps_circuit(circuit: Circuit) -> str:
 
 def save_circuit(circuit: Circuit, path: str | os.PathLike) -> None:
     """Write ``circuit`` to ``path`` atomically (temporary file, fsync, rename)."""
-    text = dumps_circuit(circuit).encode("utf-8")
+    text = _utf8(dumps_circuit(circuit))
     if circuit.sequences_file:
         save_sequences_file(circuit, path)
     write_atomic(path, text)
+
+
+def _utf8(text: str) -> bytes:
+    try:
+        return text.encode("utf-8")
+    except UnicodeEncodeError as exc:  # a lone surrogate put in by a script
+        raise ModelError("the circuit cannot be saved: it holds text that is not valid Unicode "
+                         f"near {text[max(0, exc.start - 30):exc.start]!r}") from exc
 
 
 def write_atomic(path: str | os.PathLike, data: bytes) -> None:
@@ -305,6 +313,11 @@ _BOUNDS = {
 }
 
 
+def _plain_number(value):
+    """``1`` rather than ``1.0`` in a message; other values as they are."""
+    return int(value) if isinstance(value, float) and value.is_integer() else value
+
+
 def describe_error(error: dict) -> str:
     """``connections[3].weight: must be a finite number`` from one pydantic error dict."""
     path = ""
@@ -316,9 +329,12 @@ def describe_error(error: dict) -> str:
         else:
             path += f".{part}" if path else str(part)
     kind = error["type"]
+    value = error.get("input")
+    if kind == "float_type" and isinstance(value, int) and not isinstance(value, bool):
+        return f"{path or '(file)'}: is too large; numbers here must be finite (within about 1.8e308)"
     reason = _REASONS.get(kind)
     if reason is None and kind in _BOUNDS and error.get("ctx"):
-        reason = _BOUNDS[kind].format(**error["ctx"])
+        reason = _BOUNDS[kind].format(**{k: _plain_number(v) for k, v in error["ctx"].items()})
     if reason is None:
         msg = error["msg"]
         if kind == "string_pattern_mismatch":

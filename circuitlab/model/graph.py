@@ -7,7 +7,7 @@ are left out, since GraphML has no null; reading fills them with their
 defaults again. The graph carries the circuit's ``name`` and ``description``;
 the schedule, sequences and training settings stay in the circuit file.
 GraphML is XML, which cannot hold control characters: they are dropped from
-text on writing.
+text on writing, and line breaks are written as ``\n``.
 Attributes that are not fields of a unit or connection (a foreign tool's
 ``label`` or colour) are ignored on the way in.
 """
@@ -91,7 +91,7 @@ def write_graphml(circuit: Circuit, path: str | os.PathLike) -> None:
                   *(d for _, _, d in graph.edges(data=True))]:
         for key, value in attrs.items():
             if isinstance(value, str):
-                attrs[key] = _XML_ILLEGAL.sub("", value)
+                attrs[key] = _xml_text(value)
     buffer = io.BytesIO()
     nx.write_graphml(graph, buffer, encoding="utf-8", prettyprint=True)
     write_atomic(path, buffer.getvalue())
@@ -121,6 +121,11 @@ def read_graphml(path: str | os.PathLike) -> Circuit:
         raise ModelError(f"{path}: {exc}") from exc
 
 
+def _xml_text(text: str) -> str:
+    """Text as XML will give it back: no control characters, line breaks as ``\n``."""
+    return _XML_ILLEGAL.sub("", text.replace("\r\n", "\n").replace("\r", "\n"))
+
+
 def _attributes(model: pydantic.BaseModel, exclude: set[str]) -> dict:
     return {k: v for k, v in model.model_dump(mode="json", exclude=exclude).items() if v is not None}
 
@@ -139,5 +144,5 @@ def _build(model: type[pydantic.BaseModel], fields: dict, where: str):
     try:
         return model.model_validate(fields)
     except pydantic.ValidationError as exc:
-        reasons = [describe_error(e) for e in exc.errors(include_url=False, include_input=False)]
+        reasons = [describe_error(e) for e in exc.errors(include_url=False)]
         raise ModelError(f"{where}: " + "; ".join(reasons)) from exc
