@@ -4,7 +4,9 @@ Units are grouped by activation once at compile time; a step then applies
 each function to its group's columns at once (no loop over units). The
 derivative takes both the net input and the unit's output ``y = f(net)``,
 whichever is cheaper and more accurate: the logistic derivative is
-``y * (1 - y)`` and the tanh derivative ``1 - y**2`` (common practice).
+``y * (1 - y)`` and the tanh derivative ``1 - y**2`` (common practice), both
+computed from net so that they keep full relative precision when the unit
+saturates.
 """
 
 import numpy as np
@@ -22,7 +24,10 @@ def logistic(net: np.ndarray) -> np.ndarray:
 
 
 def logistic_derivative(net: np.ndarray, y: np.ndarray) -> np.ndarray:
-    return y * (1.0 - y)
+    # y (1 - y), evaluated as z / (1 + z)^2 with z = exp(-|net|): the same number, but
+    # without the cancellation in 1 - y when y is near 1.
+    z = np.exp(-np.abs(net))
+    return z / ((1.0 + z) * (1.0 + z))
 
 
 def tanh(net: np.ndarray) -> np.ndarray:
@@ -30,7 +35,9 @@ def tanh(net: np.ndarray) -> np.ndarray:
 
 
 def tanh_derivative(net: np.ndarray, y: np.ndarray) -> np.ndarray:
-    return 1.0 - y * y
+    # 1 - y^2 = 4 z / (1 + z)^2 with z = exp(-2|net|): no cancellation when |y| is near 1.
+    z = np.exp(-2.0 * np.abs(net))
+    return 4.0 * z / ((1.0 + z) * (1.0 + z))
 
 
 def linear(net: np.ndarray) -> np.ndarray:
