@@ -1,0 +1,226 @@
+"""circuitlab for scripts and notebooks: one verb per job, NumPy arrays out.
+
+    from circuitlab import api
+    circuit = api.load("latch.circuit.json")
+    result = api.train(circuit, epochs=500)       # trains a copy; circuit is untouched
+    run = api.run(result.circuit)                  # run.y[s, t, j]: state of unit j at step t
+    grads = api.gradients(result.circuit)          # grads.W, grads.bias, grads.init, grads.e, grads.delta
+    api.save(result.circuit, "latch-trained.circuit.json")
+
+The loss everywhere is the mean over the target cells (of the sequences in
+the batch) of the per-cell loss, squared error or cross-entropy as the
+circuit's training settings say. Trained circuits are models: validate them
+for any real use (for example before one controls something physical).
+"""
+
+import csv
+import io
+import os
+from dataclasses import dataclass
+from typing import Callable
+
+import networkx as nx
+import numpy as np
+
+from circuitlab.engine import (Activity, Backward, Compiled, EngineError, EpochRecord, Parameters,
+                               Trainer, backward, compile_circuit, contributions, forward)
+from circuitlab.engine.gradcheck import DEFAULT_TOLERANCE, GradientCheck, gradient_check
+from circuitlab.engine.unrolled import unrolled_graph
+from circuitlab.model import Circuit, UnitSchedule, load_circuit, save_circuit
+
+__all__ = ["EngineError", "GradientResult", "RunResult", "TrainingResult", "check_gradients",
+           "gradients", "load", "run", "save", "train", "unroll"]
+
+
+def load(path: str | os.PathLike) -> Circuit:
+    """Read a circuit file (raises ``CircuitFileError`` naming each bad field)."""
+    return load_circuit(path)
+
+
+def save(circuit: Circuit, path: str | os.PathLike) -> None:
+    """Write a circuit file atomically."""
+    save_circuit(circuit, path)
+
+
+# ----------------------------------------------------------------- training
+@dataclass
+class TrainingResult:
+    """What ``train`` produced: the trained copy of the circuit and the learning curve."""
+
+    circuit: Circuit
+    history: list[EpochRecord]
+    initial_loss: float
+    final_loss: float
+    held_out_loss: float | None
+    stopped_because: str
+
+    @property
+    def epochs(self) -> int:
+        return len(self.history)
+
+    def curve(self) -> dict[str, np.ndarray]:
+        """The learning curve as arrays: epoch, loss, held_out_loss (NaN if none), grad_norm."""
+        h = self.history
+        return {"epoch": np.array([r.epoch for r in h]),
+                "loss": np.array([r.loss for r in h]),
+                "held_out_loss": np.array([np.nan if r.held_out_loss is None else r.held_out_loss for r in h]),
+                "grad_norm": np.array([r.grad_norm for r in h]),
+                "learning_rate": np.array([r.learning_rate for r in h])}
+
+
+def train(circuit: Circuit, epochs: int | None = None, seed: int | None = None,
+          reinitialise: bool = False, callback: Callable[[EpochRecord], None] | None = None) -> TrainingResult:
+    """Train a copy of ``circuit`` with its training settings; ``circuit`` itself is not changed.
+
+    ``epochs`` overrides the maximum number of epochs and ``seed`` the
+    training seed; ``reinitialise`` draws fresh seeded fan-in-scaled weights
+    first (ties, frozen values and signs respected). ``callback(record)``
+    runs after each epoch. Training starts from the values the circuit holds.
+    """
+    work = circuit.copy()
+    if seed is not None:
+        work.training.seed = seed
+    trainer = Trainer(work, epochs=epochs)
+    if reinitialise:
+        trainer.reinitialise(work.training.seed)
+    initial = trainer.loss()
+    trainer.run(callback)
+    trainer.write_back(work)
+    return TrainingResult(work, trainer.history, initial, trainer.loss(), trainer.held_out_loss(),
+                          trainer.stopped_because or "")
+
+
+# --------------------------------------------------------------------- runs
+@dataclass
+class RunResult:
+    """The activity of every unit at every step: ``y`` and ``net`` are (S, T+1, n).
+
+    Steps past a sequence's own length are padding (``step_mask`` False).
+    """
+
+    unit_names: list[str]
+    sequence_names: list[str]
+    lengths: np.ndarray
+    y: np.ndarray
+    net: np.ndarray
+
+    @property
+    def step_mask(self) -> np.ndarray:
+        return np.arange(self.y.shape[1])[None, :] <= self.lengths[:, None]
+
+    def states(self, sequence: str) -> np.ndarray:
+        """(length+1, n): the states of one sequence, padding cut off."""
+        s = self.sequence_names.index(sequence)
+        return self.y[s, : self.lengths[s] + 1]
+
+    def to_csv(self) -> str:
+        """CSV text: one row per (sequence, step), one column per unit's state."""
+        buffer = io.StringIO()
+        writer = csv.writer(buffer, lineterminator="\n")
+        writer.writerow(["sequence", "step", *self.unit_names])
+        for s, name in enumerate(self.sequence_names):
+            for t in range(self.lengths[s] + 1):
+                writer.writerow([name, t, *(repr(float(v)) for v in self.y[s, t])])
+        return buffer.getvalue()
+
+
+def run(circuit: Circuit, sequence: str | None = None, steps: int | None = None) -> RunResult:
+    """Run the circuit on its sequences (or only ``sequence``) at its current values.
+
+    ``steps`` runs each sequence for that many steps instead of its own
+    length, for example past the training horizon; targets are then ignored,
+    and a unit clamped at a step the data does not cover is an error.
+    """
+    work = circuit
+    if steps is not None:
+        if steps < 1:
+            raise EngineError("steps must be at least 1")
+        work = circuit.copy()
+        for name, sched in list(work.schedule.items()):
+            work.schedule[name] = sched.model_copy(update={"target": "none"})
+        for seq in work.sequences:
+            seq.targets = {}
+            seq.resize(steps)
+        work.schedule = {k: v for k, v in work.schedule.items() if v != UnitSchedule()}
+    comp = compile_circuit(work, None if sequence is None else [sequence])
+    act = forward(comp, comp.parameters_from_circuit())
+    return RunResult(comp.unit_names, comp.sequence_names, comp.lengths, act.y.copy(), act.net.copy())
+
+
+# ---------------------------------------------------------------- gradients
+@dataclass
+class GradientResult:
+    """The loss, its raw gradients and the backward stacks at the circuit's current values.
+
+    ``W[i, j]``, ``bias[j]``, ``init[j]``: dLoss/d(value) (raw: a tied
+    connection's own share; ``theta_gradient`` sums tie groups and leaves
+    out frozen values, labelled by ``theta_labels``). ``y``, ``e`` = dLoss/dy
+    and ``delta`` = dLoss/dnet are (S, T+1, n).
+    """
+
+    loss: float
+    grads: Parameters
+    compiled: Compiled
+    activity: Activity
+    backward: Backward
+
+    @property
+    def W(self) -> np.ndarray:
+        return self.grads.W
+
+    @property
+    def bias(self) -> np.ndarray:
+        return self.grads.bias
+
+    @property
+    def init(self) -> np.ndarray:
+        return self.grads.init
+
+    @property
+    def theta_gradient(self) -> np.ndarray:
+        return self.compiled.pack_gradient(self.grads)
+
+    @property
+    def theta_labels(self) -> list[str]:
+        return list(self.compiled.param_labels)
+
+    @property
+    def y(self) -> np.ndarray:
+        return self.activity.y
+
+    @property
+    def e(self) -> np.ndarray:
+        return self.backward.e
+
+    @property
+    def delta(self) -> np.ndarray:
+        return self.backward.delta
+
+    def contributions(self, source: str, target: str, per_sequence: bool = False) -> np.ndarray:
+        """Per-step terms y_source(t-1) * delta_target(t); they sum to ``W[source, target]``."""
+        return contributions(self.compiled, self.activity, self.backward, source, target, per_sequence)
+
+
+def gradients(circuit: Circuit, sequence: str | None = None, loss: str | None = None,
+              truncation: int | None = None) -> GradientResult:
+    """BPTT at the circuit's current values over all its sequences (or one).
+
+    ``loss`` defaults to the circuit's training loss; ``truncation`` to none
+    (the exact gradient).
+    """
+    comp = compile_circuit(circuit, None if sequence is None else [sequence])
+    params = comp.parameters_from_circuit()
+    act = forward(comp, params)
+    value, grads, back = backward(comp, params, act, loss=loss or comp.loss, truncation=truncation)
+    return GradientResult(value, grads, comp, act, back)
+
+
+def check_gradients(circuit: Circuit, tolerance: float = DEFAULT_TOLERANCE, rtrl: bool = True) -> GradientCheck:
+    """Compare BPTT with finite differences and RTRL at the circuit's values (see engine.gradcheck)."""
+    comp = compile_circuit(circuit)
+    return gradient_check(comp, comp.parameters_from_circuit(), comp.loss, tolerance, rtrl)
+
+
+def unroll(circuit: Circuit, steps: int | None = None) -> nx.DiGraph:
+    """The unrolled network over steps 0..steps (default: the longest sequence) as a networkx graph."""
+    return unrolled_graph(circuit, steps)
