@@ -13,7 +13,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from circuitlab.model import Circuit, CircuitFileError
+from circuitlab.model import Circuit, CircuitFileError, load_circuit
 from circuitlab.model.fileformat import dumps_circuit, loads_circuit
 from conftest import EXAMPLES
 from strategies import ANY_FINITE, circuits
@@ -178,6 +178,24 @@ json_values = st.recursive(
 def test_random_json_under_a_valid_header_never_escapes(body):
     text = json.dumps({"format": "circuitlab-circuit", "version": 1, **body})  # NaN/Infinity too
     refused_or_loaded(text)
+
+
+csv_cells = st.sampled_from(["sequence", "step", "clamp:a", "target:a", "s", "0", "1", "-1", "x", "",
+                             "0.5", "nan", "1e999", '"', "clamp:", "target:zz"])
+
+
+@settings(FUZZ, max_examples=200, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(sequences_file=st.sampled_from(["seq.csv", "absent.csv", ".", "/dev/null", "a\x00b.csv", "../seq.csv"]),
+       rows=st.lists(st.lists(csv_cells, max_size=5), max_size=6), raw=st.binary(max_size=40))
+def test_a_bad_sequences_file_never_escapes(tmp_path, sequences_file, rows, raw):
+    (tmp_path / "seq.csv").write_bytes("\n".join(",".join(r) for r in rows).encode() + raw)
+    path = tmp_path / "c.circuit.json"
+    path.write_text(HEADER + '"units": [{"name": "a"}], "schedule": {"a": {"clamp": "every"}}, '
+                    f'"sequences_file": {json.dumps(sequences_file)}}}', encoding="utf-8")
+    try:
+        load_circuit(path)
+    except CircuitFileError as exc:
+        check_problems(exc)
 
 
 # ------------------------------------------------------------ named cases

@@ -19,7 +19,8 @@ from pathlib import Path
 import pydantic
 
 from circuitlab.model.circuit import FORMAT_NAME, FORMAT_VERSION, Circuit
-from circuitlab.model.csvdata import SequenceCsvError, load_sequences_file, save_sequences_file
+from circuitlab.model.csvdata import (SequenceCsvError, load_sequences_file, save_sequences_file,
+                                      sequences_file_path)
 from circuitlab.model.errors import CircuitFileError, ModelError
 
 MAX_FILE_BYTES = 50 * 1024 * 1024
@@ -53,6 +54,17 @@ def load_circuit(path: str | os.PathLike) -> Circuit:
 def _load_sequences_file(circuit: Circuit, path: Path) -> None:
     if circuit.sequences:
         raise CircuitFileError(str(path), ["sequences: must be empty when sequences_file is set"])
+    csv_path = sequences_file_path(circuit, path)
+    try:
+        info = os.stat(csv_path)
+    except (OSError, ValueError) as exc:  # ValueError: a NUL character in the name
+        raise CircuitFileError(str(path), [
+            f"sequences_file: {csv_path} cannot be read ({getattr(exc, 'strerror', None) or exc})"]) from exc
+    if not stat.S_ISREG(info.st_mode):  # a device or pipe could be read forever
+        raise CircuitFileError(str(path), [f"sequences_file: {csv_path} is not a regular file"])
+    if info.st_size > MAX_FILE_BYTES:
+        raise CircuitFileError(str(path), [
+            f"sequences_file: {csv_path} is {info.st_size / 2**20:.1f} MB; {_SIZE_LIMIT}"])
     try:
         load_sequences_file(circuit, path)
     except SequenceCsvError as exc:
@@ -306,10 +318,10 @@ _BOUNDS = {
     "greater_than_equal": "must be {ge} or more",
     "less_than": "must be less than {lt}",
     "less_than_equal": "must be {le} or less",
-    "string_too_short": "must have at least {min_length} characters",
-    "string_too_long": "must have at most {max_length} characters",
-    "too_short": "must have at least {min_length} entries",
-    "too_long": "must have at most {max_length} entries",
+    "string_too_short": "must have at least {min_length} character{s}",
+    "string_too_long": "must have at most {max_length} character{s}",
+    "too_short": "must have at least {min_length} entr{ies}",
+    "too_long": "must have at most {max_length} entr{ies}",
 }
 
 
@@ -334,7 +346,9 @@ def describe_error(error: dict) -> str:
         return f"{path or '(file)'}: is too large; numbers here must be finite (within about 1.8e308)"
     reason = _REASONS.get(kind)
     if reason is None and kind in _BOUNDS and error.get("ctx"):
-        reason = _BOUNDS[kind].format(**{k: _plain_number(v) for k, v in error["ctx"].items()})
+        ctx = {k: _plain_number(v) for k, v in error["ctx"].items()}
+        one = ctx.get("min_length", ctx.get("max_length")) == 1
+        reason = _BOUNDS[kind].format(**ctx, s="" if one else "s", ies="y" if one else "ies")
     if reason is None:
         msg = error["msg"]
         if kind == "string_pattern_mismatch":
