@@ -138,6 +138,8 @@ def read_csv(text: str, unit_names: Iterable[str] | None = None,
                                            f"has {len(fields)} fields but the header has {len(header)}"))
                 broken.add(name)
                 continue
+            if columns is None:
+                continue  # the header is wrong (maybe one column): rows cannot be read against it
             if not name:
                 problems.append(CsvProblem(start, 1, "the sequence name is empty"))
                 continue
