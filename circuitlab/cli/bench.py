@@ -12,7 +12,9 @@ import platform
 from circuitlab.cli.output import emit_json
 
 # suite name -> "module:function"
-SUITES: dict[str, str] = {}
+SUITES: dict[str, str] = {
+    "engine": "circuitlab.engine.benchmarks:run",
+}
 
 
 def register(commands) -> None:
