@@ -17,10 +17,9 @@ NAMES: tuple[str, ...] = tuple(CODES)
 
 
 def logistic(net: np.ndarray) -> np.ndarray:
-    # For net < -709 exp overflows to inf and the result is the correct 0; elsewhere
-    # 1 / (1 + exp(-net)) keeps full relative precision, also for tiny outputs.
-    with np.errstate(over="ignore"):
-        return 1.0 / (1.0 + np.exp(-net))
+    # 1 / (1 + exp(-net)) keeps full relative precision, also for tiny outputs; net is
+    # floored at -709 only so that exp cannot overflow (the output there is below 1e-307).
+    return 1.0 / (1.0 + np.exp(-np.maximum(net, -709.0)))
 
 
 def logistic_derivative(net: np.ndarray, y: np.ndarray) -> np.ndarray:
@@ -64,11 +63,14 @@ Groups = tuple[tuple[int, slice | np.ndarray], ...]
 
 
 def groups_of(codes: np.ndarray) -> Groups:
-    """``(code, columns)`` for each activation present; one group covers all columns as a slice."""
-    present = sorted(set(int(c) for c in codes))
-    if len(present) == 1:
-        return ((present[0], slice(None)),)
-    return tuple((c, np.flatnonzero(codes == c)) for c in present)
+    """``(code, columns)`` for each activation present; columns is a slice where they are contiguous."""
+    groups = []
+    for c in sorted(set(int(c) for c in codes)):
+        cols = np.flatnonzero(codes == c)
+        contiguous = cols[-1] - cols[0] + 1 == cols.size
+        groups.append((c, slice(int(cols[0]), int(cols[-1]) + 1) if contiguous else cols))
+    return tuple(groups)
+
 
 
 def activate(groups: Groups, net: np.ndarray, out: np.ndarray) -> None:

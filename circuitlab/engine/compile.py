@@ -12,7 +12,7 @@ learned initial states. Tied weights are one entry, so they stay exactly
 equal; frozen values are not in ``theta`` at all, so they never change.
 """
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, fields
 from typing import Iterable
 
 import numpy as np
@@ -143,8 +143,9 @@ class Compiled:
         idx = np.asarray(list(indices), dtype=int)
         T = int(self.lengths[idx].max()) if idx.size else 0
         cut = slice(0, T + 1)
+        own = {f.name: getattr(self, f.name) for f in fields(self)}
         return Compiled(
-            **{**self.__dict__,
+            **{**own,
                "sequence_names": [self.sequence_names[i] for i in idx],
                "held_out": self.held_out[idx], "lengths": self.lengths[idx],
                "clamp_tm": self.clamp_tm[cut, idx], "clamp_values_tm": self.clamp_values_tm[cut, idx],
