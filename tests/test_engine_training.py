@@ -250,3 +250,48 @@ def test_e_norm_of_record_matches_backward():
     train = ~comp.held_out
     expected = np.sqrt((back.e[train] ** 2).sum(axis=(0, 2)))
     np.testing.assert_allclose(rec.e_norm, expected[: rec.e_norm.size], rtol=1e-12)
+
+
+def test_step_advances_one_mini_batch_and_matches_epoch():
+    def trainer():
+        c = constrained_circuit()
+        c.training.batch_size = 1
+        return Trainer(c)
+    a, b = trainer(), trainer()
+    assert a.batches_per_epoch == 3  # three training sequences, one held out
+    assert a.step() is None and a.step() is None
+    rec = a.step()
+    assert rec is not None and rec.epoch == 1
+    assert b.epoch().loss == rec.loss
+    np.testing.assert_array_equal(a.parameters.W, b.parameters.W)
+
+
+def test_sgd_step_with_weight_decay_follows_the_penalised_gradient():
+    # L2 weight decay: the followed gradient is dL/dw + lambda w on weights only (common practice).
+    c = constrained_circuit()
+    c.training.optimizer = "sgd"
+    c.training.momentum = 0.0
+    c.training.weight_decay = 0.1
+    c.training.learning_rate = 0.01
+    tr = Trainer(c)
+    comp = tr._train_set
+    p = tr.parameters
+    _, grads, _ = backward(comp, p, forward(comp, p))
+    g = comp.pack_gradient(grads)
+    theta = comp.pack(p)
+    weights = comp.param_groups()["weights"]
+    g[weights] += 0.1 * theta[weights]
+    rec = tr.epoch()
+    np.testing.assert_allclose(comp.pack(tr.parameters), theta - 0.01 * g, rtol=1e-13)
+    assert rec.decay_penalty == pytest.approx(0.05 * float(theta[weights] @ theta[weights]))
+
+
+def test_step_rate_schedule():
+    c = constrained_circuit()
+    c.training.rate_schedule = "step"
+    c.training.rate_step_every = 3
+    c.training.rate_step_factor = 0.5
+    c.training.epochs = 7
+    tr = Trainer(c)
+    tr.run()
+    assert [r.learning_rate for r in tr.history] == [0.05] * 3 + [0.025] * 3 + [0.0125]

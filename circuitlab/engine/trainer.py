@@ -13,7 +13,7 @@ go back to the last ones whose loss was finite, the history is kept, and
 ``stopped_because`` says what happened.
 """
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -54,6 +54,8 @@ class EpochRecord:
 class Trainer:
     """Trains a copy of ``circuit`` with its ``circuit.training`` settings.
 
+    ``epoch()`` advances one epoch per call, ``step()`` one mini-batch.
+
     ``epochs`` overrides the settings' maximum number of epochs. Raises
     ``EngineError`` if the circuit has problems, no training sequences or
     no target cells in them.
@@ -64,6 +66,7 @@ class Trainer:
         self.history: list[EpochRecord] = []
         self.done = False
         self.stopped_because: str | None = None
+        self._pending: _Epoch | None = None
         self._load(circuit, keep_state=False)
 
     # ------------------------------------------------------------ set-up
@@ -88,6 +91,7 @@ class Trainer:
         self._theta = compiled.pack(self._base)
         self._lo, self._hi = compiled.bounds()
         self._good_theta = self._theta.copy()
+        self._pending = None  # an epoch begun by step() restarts with the new values
         nw = compiled.n_weight_params
         self._decay_mask = np.zeros(compiled.n_params, dtype=bool)
         self._decay_mask[:nw] = True
@@ -111,60 +115,83 @@ class Trainer:
 
     # ---------------------------------------------------------- training
     def epoch(self) -> EpochRecord:
-        """Run one epoch (every mini-batch once) and return its record."""
+        """Run one epoch (the rest of it, if ``step`` has begun one) and return its record."""
+        while True:
+            rec = self.step()
+            if rec is not None:
+                return rec
+
+    def step(self) -> EpochRecord | None:
+        """Train on one mini-batch; return the epoch's record if this batch ends the epoch, else None."""
         if self.done:
             raise EngineError(f"training has stopped: {self.stopped_because}")
-        s = self.settings
+        if self._pending is None:
+            self._pending = self._begin_epoch()
+        p = self._pending
+        batch = p.batches[p.next]
+        p.next += 1
+        finite = self._train_batch(batch, p)
+        if finite and p.next < len(p.batches):
+            return None
+        self._pending = None
+        return self._finish_epoch(p, finite)
+
+    def _begin_epoch(self) -> "_Epoch":
         number = self.epochs_done + 1
-        lr = learning_rate(s, number)
         with np.errstate(over="ignore", invalid="ignore"):
-            held_loss = self._held_out_loss()
-        batches = self._batches()
-        T = self._train_set.steps
-        e_sq = np.zeros(T + 1)
-        loss_sum, cells, norms, penalty = 0.0, 0, [], 0.0
-        finite = True
-        for batch in batches:
-            params = self.compiled.unpack(self._theta, self._base)
-            with np.errstate(over="ignore", invalid="ignore"):  # overflow is caught below
-                act = forward(batch, params)
-                value, grads, back = backward(batch, params, act, loss=s.loss, truncation=s.truncation)
-            g = batch.pack_gradient(grads)
-            w = self._theta[self._decay_mask]
-            penalty = 0.5 * s.weight_decay * float(w @ w)
-            g[self._decay_mask] += s.weight_decay * w
-            norm = float(np.linalg.norm(g))
-            if np.isfinite(value):
-                self._good_theta = self._theta.copy()
-            if not (np.isfinite(value) and np.isfinite(norm)):
-                finite = False
-                self._stop_non_finite(number, "the loss" if not np.isfinite(value) else "the gradient")
-                break
-            theta = self._optimizer.step(self._theta, clip_by_global_norm(g, s.clip_norm), lr)
-            theta = np.clip(theta, self._lo, self._hi)
-            n_cells = back.target_cells
-            loss_sum += value * n_cells
-            cells += n_cells
-            norms.append(norm)
-            e_sq[:back.e_tm.shape[0]] += np.einsum("tsn,tsn->t", back.e_tm, back.e_tm)
-            if not np.isfinite(theta).all():
-                finite = False
-                self._stop_non_finite(number, "a parameter")
-                break
-            self._theta = theta
+            held = self._held_out_loss()
+        return _Epoch(number, learning_rate(self.settings, number), held, self._batches(),
+                      np.zeros(self._train_set.steps + 1))
+
+    def _train_batch(self, batch: Compiled, p: "_Epoch") -> bool:
+        """One optimizer step on ``batch``; False (and training stopped) on NaN or infinity."""
+        s = self.settings
+        params = self.compiled.unpack(self._theta, self._base)
+        with np.errstate(over="ignore", invalid="ignore"):  # overflow is caught below
+            act = forward(batch, params)
+            value, grads, back = backward(batch, params, act, loss=s.loss, truncation=s.truncation)
+        g = batch.pack_gradient(grads)
+        w = self._theta[self._decay_mask]
+        p.penalty = 0.5 * s.weight_decay * float(w @ w)
+        g[self._decay_mask] += s.weight_decay * w
+        norm = float(np.linalg.norm(g))
+        if np.isfinite(value):
+            self._good_theta = self._theta.copy()
+        if not (np.isfinite(value) and np.isfinite(norm)):
+            self._stop_non_finite(p.number, "the loss" if not np.isfinite(value) else "the gradient")
+            return False
+        theta = self._optimizer.step(self._theta, clip_by_global_norm(g, s.clip_norm), p.lr)
+        theta = np.clip(theta, self._lo, self._hi)
+        p.loss_sum += value * back.target_cells
+        p.cells += back.target_cells
+        p.norms.append(norm)
+        p.e_sq[:back.e_tm.shape[0]] += np.einsum("tsn,tsn->t", back.e_tm, back.e_tm)
+        if not np.isfinite(theta).all():
+            self._stop_non_finite(p.number, "a parameter")
+            return False
+        self._theta = theta
+        return True
+
+    def _finish_epoch(self, p: "_Epoch", finite: bool) -> EpochRecord:
+        s = self.settings
         rec = EpochRecord(
-            epoch=number, loss=loss_sum / cells if finite and cells else float("nan"),
-            held_out_loss=held_loss, grad_norm=float(np.mean(norms)) if norms else float("nan"),
-            learning_rate=lr, e_norm=np.sqrt(e_sq), finite=finite, parameters=self.parameters,
-            decay_penalty=penalty)
+            epoch=p.number, loss=p.loss_sum / p.cells if finite and p.cells else float("nan"),
+            held_out_loss=p.held_out_loss, grad_norm=float(np.mean(p.norms)) if p.norms else float("nan"),
+            learning_rate=p.lr, e_norm=np.sqrt(p.e_sq), finite=finite, parameters=self.parameters,
+            decay_penalty=p.penalty)
         self.history.append(rec)
         if not self.done:
             if s.target_loss is not None and rec.loss <= s.target_loss:
                 self._stop(f"reached the target loss {s.target_loss:g} (loss {rec.loss:.6g}) "
-                           f"after {number} epochs")
-            elif number >= self.max_epochs:
+                           f"after {p.number} epochs")
+            elif p.number >= self.max_epochs:
                 self._stop(f"ran the set number of epochs ({self.max_epochs})")
         return rec
+
+    @property
+    def batches_per_epoch(self) -> int:
+        size, n = self.settings.batch_size, self._train_idx.size
+        return 1 if size == 0 or size >= n else -(-n // size)
 
     def run(self, callback=None) -> list[EpochRecord]:
         """Train until done; ``callback(record)`` after each epoch. Returns the new records."""
@@ -272,6 +299,7 @@ class Trainer:
             0.5 if comp.activation_codes[j] == 0 else 0.0 for j in comp.init_units]
         self._theta = theta
         self._good_theta = theta.copy()
+        self._pending = None
         self._optimizer = make_optimizer(self.settings, comp.n_params)
         self._rng = np.random.default_rng(self.settings.seed)
         self.history = []
@@ -291,3 +319,19 @@ class Trainer:
         self.stopped_because = None
         if self.epochs_done >= self.max_epochs:
             self._stop(f"ran the set number of epochs ({self.max_epochs})")
+
+
+@dataclass(eq=False)
+class _Epoch:
+    """An epoch in progress (between ``step`` calls)."""
+
+    number: int
+    lr: float
+    held_out_loss: float | None
+    batches: list[Compiled]
+    e_sq: np.ndarray
+    next: int = 0
+    loss_sum: float = 0.0
+    cells: int = 0
+    norms: list[float] = field(default_factory=list)
+    penalty: float = 0.0
