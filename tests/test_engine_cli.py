@@ -122,3 +122,20 @@ def test_api_gradients_contributions_and_unroll():
     assert result.epochs == 20 and c.trained is None  # the given circuit is not changed
     curve = result.curve()
     assert curve["loss"].shape == (20,) and np.isfinite(curve["held_out_loss"]).all()
+
+
+def test_train_exits_1_and_saves_finite_values_when_training_diverges(tmp_path, capsys):
+    from circuitlab.model import Circuit, Sequence, Unit, UnitSchedule
+    c = Circuit()
+    c.add_unit(Unit(name="a", activation="linear", initial_value=1.0))
+    c.connect("a", "a", 1.5)
+    c.set_schedule("a", UnitSchedule(target="final"))
+    c.add_sequence(Sequence(name="s", length=50, targets={"a": [None] * 50 + [1.0]}))
+    c.training.optimizer = "sgd"
+    c.training.learning_rate = 1e6
+    path, out = tmp_path / "wild.circuit.json", tmp_path / "out.circuit.json"
+    save_circuit(c, path)
+    assert main(["train", str(path), "--out", str(out), "--json"]) == 1
+    report = json.loads(capsys.readouterr().out)
+    assert "NaN or infinite" in report["stopped_because"] and not report["ok"]
+    assert np.isfinite(load_circuit(out).connection("a", "a").weight)

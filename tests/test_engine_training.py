@@ -295,3 +295,27 @@ def test_step_rate_schedule():
     tr = Trainer(c)
     tr.run()
     assert [r.learning_rate for r in tr.history] == [0.05] * 3 + [0.025] * 3 + [0.0125]
+
+
+def test_write_back_into_a_changed_circuit_is_refused_clearly():
+    c = constrained_circuit()
+    tr = Trainer(c)
+    tr.epoch()
+    other = constrained_circuit()
+    other.disconnect("h", "o")
+    with pytest.raises(EngineError, match="no longer has connection h -> o"):
+        tr.write_back(other)
+    assert other.connection("x", "h").weight == 0.4  # nothing half-written
+
+
+def test_write_back_matches_connections_by_name():
+    c = constrained_circuit()
+    tr = Trainer(c)
+    for _ in range(3):
+        tr.epoch()
+    shuffled = c.copy()
+    shuffled.connections.reverse()
+    tr.write_back(shuffled)
+    tr.write_back(c)
+    for conn in c.connections:
+        assert shuffled.connection(*conn.key).weight == conn.weight

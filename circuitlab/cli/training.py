@@ -100,7 +100,11 @@ def run_train(args: argparse.Namespace) -> int:
     reason = trainer.stopped_because or f"interrupted after {trainer.epochs_done} epochs"
     if interrupted:
         trainer.stopped_because = reason
-    trainer.write_back(circuit)
+    try:
+        trainer.write_back(circuit)
+    except EngineError as exc:
+        _report(args.json, f"{args.file}: {exc}")
+        return 1
     written = []
     try:
         if args.log:

@@ -259,18 +259,28 @@ class Trainer:
         record of this run in ``circuit.trained``."""
         params = self.parameters
         comp = self.compiled
-        for (i, j), c in zip(comp.connections, self.circuit.connections):
-            circuit.connection(c.source, c.target).weight = float(params.W[i, j])
-        for j, name in enumerate(comp.unit_names):
+        names = comp.unit_names
+        pairs = [(names[i], names[j]) for i, j in comp.connections]
+        missing = [f"unit '{u}'" for u in names if not circuit.has_unit(u)]
+        missing += [f"connection {a} -> {b}" for a, b in pairs if not circuit.has_connection(a, b)]
+        if missing:
+            raise EngineError("the trained values cannot be stored: the circuit no longer has "
+                              + ", ".join(missing[:5]) + (" ..." if len(missing) > 5 else ""))
+        with np.errstate(over="ignore", invalid="ignore"):
+            loss, held = self.loss(), self.held_out_loss()
+        if not np.isfinite(loss):
+            raise EngineError("the trained values cannot be stored: the loss is not finite at them")
+        for (i, j), (a, b) in zip(comp.connections, pairs):
+            circuit.connection(a, b).weight = float(params.W[i, j])
+        for j, name in enumerate(names):
             unit = circuit.unit(name)
             unit.bias = float(params.bias[j])
             if unit.initial_mode == "learned":
                 unit.initial_value = float(params.init[j])
         last = self.history[-1] if self.history else None
         circuit.trained = TrainingRecord(
-            epochs=self.epochs_done, loss=self.loss(), held_out_loss=self.held_out_loss(),
+            epochs=self.epochs_done, loss=loss, held_out_loss=held if held is not None and np.isfinite(held) else None,
             stopped_because=self.stopped_because or (f"paused after {self.epochs_done} epochs" if last else ""))
-        self.circuit = circuit.copy()
 
     def reinitialise(self, seed: int) -> None:
         """Draw fresh weights and restart: trainable weights ~ N(0, (init_scale / sqrt(fan-in))^2).
