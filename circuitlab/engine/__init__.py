@@ -8,9 +8,13 @@ from circuitlab.engine.backward import Backward, backward, contributions, loss_v
 from circuitlab.engine.compile import Compiled, Parameters, compile_circuit
 from circuitlab.engine.errors import EngineError
 from circuitlab.engine.forward import Activity, forward
+from circuitlab.engine.gradcheck import GradientCheck, gradient_check
+from circuitlab.engine.rtrl import rtrl_gradient
 from circuitlab.engine.trainer import EpochRecord, Trainer
+from circuitlab.engine.unrolled import unrolled_graph
 
 __all__ = [
-    "Activity", "Backward", "Compiled", "EngineError", "EpochRecord", "Parameters", "Trainer",
-    "backward", "compile_circuit", "contributions", "forward", "loss_value",
+    "Activity", "Backward", "Compiled", "EngineError", "EpochRecord", "GradientCheck", "Parameters",
+    "Trainer", "backward", "compile_circuit", "contributions", "forward", "gradient_check", "loss_value",
+    "rtrl_gradient", "unrolled_graph",
 ]

@@ -36,8 +36,10 @@ class EpochRecord:
     there are none); ``grad_norm``: the norm of the tie-summed gradient
     (with weight decay, before clipping), the mean over the batches;
     ``e_norm`` (T+1,): the norm over units and training sequences of e(t);
-    ``parameters``: the parameters after the epoch; ``finite``: False if
-    the epoch hit a NaN or infinity (training then stopped).
+    ``parameters``: the parameters after the epoch (a copy per record:
+    about 8 n^2 bytes, so 20 kB for 50 units); ``finite``: False if the
+    epoch hit a NaN or infinity (training then stopped); ``decay_penalty``:
+    the weight-decay term ``0.5 * lambda * sum theta_w**2`` (not in ``loss``).
     """
 
     epoch: int
