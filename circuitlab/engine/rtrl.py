@@ -44,7 +44,7 @@ def rtrl_gradient(compiled: Compiled, params: Parameters, loss: str = "squared")
     value = 0.0
     for t in range(1, T1):
         net = y @ W + params.bias
-        DN = np.einsum("lk,slq->skq", W, P)
+        DN = np.matmul(W.T, P)  # dnet_k = sum_l w_lk P_l, for every sequence at once
         if C:
             DN[:, conns[:, 1], np.arange(C)] += y[:, conns[:, 0]]
         DN[:, units, C + units] += 1.0
