@@ -53,7 +53,7 @@ class Backward:
         return self.delta_tm.transpose(1, 0, 2)
 
 
-def _check_loss(compiled: Compiled, loss: str) -> None:
+def check_loss(compiled: Compiled, loss: str) -> None:
     if loss not in losses.LOSSES:
         raise EngineError(f"unknown loss '{loss}' (choose {' or '.join(losses.LOSSES)})")
     if loss == "cross_entropy":
@@ -67,38 +67,38 @@ def _check_loss(compiled: Compiled, loss: str) -> None:
             raise EngineError("cross-entropy targets must lie in [0, 1]")
 
 
-def loss_terms(compiled: Compiled, act: Activity, loss: str):
-    """(L, dL/dy injected, dL/dnet injected), the last two (T+1, S, n); zero off target cells."""
-    _check_loss(compiled, loss)
-    m = compiled.target_tm
-    d = compiled.target_values_tm
-    y, net = act.y_tm, act.net_tm
-    N = int(m.sum())
-    scale = 1.0 / N if N else 0.0
+def _cell_losses(compiled: Compiled, act: Activity, loss: str) -> np.ndarray:
+    """The per-cell loss at every cell (T+1, S, n); only target cells count."""
     if loss == "squared":
-        cell = losses.squared(y, d)
-        gy = np.where(m, losses.squared_dy(y, d), 0.0) * scale
-        gnet = None  # = gy * f', formed by the caller that has f'
-    else:
-        cell = losses.cross_entropy_from_net(net, d)
-        gy = np.where(m, losses.cross_entropy_dy(y, d), 0.0) * scale
-        gnet = np.where(m, losses.cross_entropy_dnet(y, d), 0.0) * scale
-    value = float(np.sum(cell, where=m)) * scale
-    return value, gy, gnet
+        return losses.squared(act.y_tm, compiled.target_values_tm)
+    return losses.cross_entropy_from_net(act.net_tm, compiled.target_values_tm)
 
 
 def loss_value(compiled: Compiled, act: Activity, loss: str = "squared") -> float:
     """L: the mean over target cells of the per-cell loss (0 when there are no target cells)."""
-    _check_loss(compiled, loss)
+    check_loss(compiled, loss)
     m = compiled.target_tm
     N = int(m.sum())
-    if not N:
-        return 0.0
+    return float(np.sum(_cell_losses(compiled, act, loss), where=m)) / N if N else 0.0
+
+
+def loss_terms(compiled: Compiled, act: Activity, loss: str):
+    """(L, dL/dy injected, dL/dnet injected or None), the arrays (T+1, S, n), zero off target cells.
+
+    For squared error the dL/dnet term is None: it is dL/dy * f', formed by
+    the caller that has f'.
+    """
+    value = loss_value(compiled, act, loss)
+    m = compiled.target_tm
+    d = compiled.target_values_tm
+    y = act.y_tm
+    N = int(m.sum())
+    scale = 1.0 / N if N else 0.0
     if loss == "squared":
-        cell = losses.squared(act.y_tm, compiled.target_values_tm)
-    else:
-        cell = losses.cross_entropy_from_net(act.net_tm, compiled.target_values_tm)
-    return float(np.sum(cell, where=m)) / N
+        return value, np.where(m, losses.squared_dy(y, d), 0.0) * scale, None
+    gy = np.where(m, losses.cross_entropy_dy(y, d), 0.0) * scale
+    gnet = np.where(m, losses.cross_entropy_dnet(y, d), 0.0) * scale
+    return value, gy, gnet
 
 
 def backward(compiled: Compiled, params: Parameters, act: Activity, loss: str = "squared",

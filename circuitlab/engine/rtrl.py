@@ -18,13 +18,13 @@ import numpy as np
 
 from circuitlab.engine import losses
 from circuitlab.engine.activations import activate, derivative
-from circuitlab.engine.backward import _check_loss
+from circuitlab.engine.backward import check_loss
 from circuitlab.engine.compile import Compiled, Parameters
 
 
 def rtrl_gradient(compiled: Compiled, params: Parameters, loss: str = "squared") -> tuple[float, Parameters]:
     """(L, raw gradients) by RTRL; the same quantities as ``backward`` (no truncation)."""
-    _check_loss(compiled, loss)
+    check_loss(compiled, loss)
     cm, cv = compiled.clamp_tm, compiled.clamp_values_tm
     m, d = compiled.target_tm, compiled.target_values_tm
     T1, S, n = cm.shape
