@@ -13,7 +13,9 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from circuitlab.model import Circuit, CircuitFileError, load_circuit
+from circuitlab.model import (Circuit, CircuitFileError, Sequence, TrainingRecord, TrainingSettings, Unit,
+                              UnitSchedule, load_circuit)
+from circuitlab.model.errors import join_path
 from circuitlab.model.fileformat import dumps_circuit, loads_circuit
 from conftest import EXAMPLES
 from strategies import ANY_FINITE, circuits
@@ -48,21 +50,47 @@ def check_problems(exc: CircuitFileError) -> None:
         assert PROBLEM_LINE.match(p) or p.startswith("... and "), p
 
 
-def example_texts() -> list[bytes]:
-    return [p.read_bytes() for p in EXAMPLES]
+def seed_circuit() -> Circuit:
+    """A small circuit that uses every kind of field, for the exhaustive walks below."""
+    c = Circuit(name="seed \u00e9", description="every field once", sequences_file=None,
+                training=TrainingSettings(clip_norm=1.0, truncation=5, target_loss=0.01),
+                trained=TrainingRecord(epochs=12, loss=0.5, held_out_loss=0.75, stopped_because="target"))
+    c.add_unit(Unit(name="cue", sign="excitatory", x=-1.5, y=2.0))
+    c.add_unit(Unit(name="h.1", activation="tanh", initial_mode="learned", initial_value=0.2))
+    c.add_unit(Unit(name="out", activation="linear", bias=-0.5, bias_trains=False, sign="inhibitory"))
+    c.connect("cue", "h.1", 0.5, tie="g")
+    c.connect("h.1", "h.1", 0.5, tie="g")
+    c.connect("out", "out", -1e-3, trains=False)
+    c.set_schedule("cue", UnitSchedule(clamp="steps", clamp_steps=[0, 2]))
+    c.set_schedule("h.1", UnitSchedule(target="steps", target_steps=[1, 3]))
+    c.set_schedule("out", UnitSchedule(target="last", target_last=2))
+    c.add_sequence(Sequence(name="a", length=3, clamps={"cue": [1.0, None, 0.0, None]},
+                            targets={"h.1": [None, 0.5, None, -0.5], "out": [None, None, 1.0, 2.0]}))
+    c.add_sequence(Sequence(name="b", length=1, held_out=True, clamps={"cue": [0.0, None]}))
+    return c
+
+
+SEED = dumps_circuit(seed_circuit()).encode("utf-8")
 
 
 # ------------------------------------------------------------ truncations
-@pytest.mark.parametrize("data", example_texts(), ids=[p.name for p in EXAMPLES])
-def test_every_truncation_of_an_example_is_refused(data):
-    body = data.rstrip()
+def test_every_truncation_is_refused():
+    body = SEED.rstrip()
     kinds = set()
     for cut in range(len(body)):
         exc = refused(body[:cut])
         kinds.add(chr(body[cut - 1]) if cut else "")
-        assert exc.problems[0].startswith("(file): is not valid JSON"), exc.problems
+        assert exc.problems[0].startswith(("(file): is not valid JSON", "(file): is not UTF-8")), exc.problems
     # the cuts fell after every kind of token: braces, brackets, quotes, digits, letters, colons, commas
-    assert {"{", "[", '"', ":", ",", "0", "e", "."} <= kinds
+    assert {"{", "[", '"', ":", ",", "0", "e", ".", "-", " ", "\n"} <= kinds
+    assert b"\xc3" in body  # and inside a two-byte character
+
+
+@pytest.mark.parametrize("path", EXAMPLES, ids=lambda p: p.name)
+def test_truncations_of_an_example_are_refused(path):
+    body = path.read_bytes().rstrip()
+    for cut in range(0, len(body), max(1, len(body) // 300)):  # about 300 cuts, whatever the size
+        refused(body[:cut])
 
 
 @FUZZ
@@ -94,15 +122,15 @@ def _walk(node, path=""):
     """(path, parent, key) for every value in a parsed document, scalar list items thinned out."""
     if isinstance(node, dict):
         for key, value in node.items():
-            sub = f"{path}.{key}" if path else key
+            sub = join_path(path, key)
             yield sub, node, key
             yield from _walk(value, sub)
     elif isinstance(node, list):
         scalars = all(not isinstance(v, (dict, list)) for v in node)
         indices = sorted({0, len(node) - 1}) if scalars and node else range(len(node))
         for i in indices:
-            yield f"{path}[{i}]", node, i
-            yield from _walk(node[i], f"{path}[{i}]")
+            yield join_path(path, i), node, i
+            yield from _walk(node[i], join_path(path, i))
 
 
 def _mutations(doc):
@@ -138,9 +166,8 @@ def _apply(doc, parent, key, action) -> str:
     return text
 
 
-@pytest.mark.parametrize("data", example_texts(), ids=[p.name for p in EXAMPLES])
-def test_wrong_type_missing_or_surplus_at_every_field_names_that_field(data):
-    doc = json.loads(data)
+def test_wrong_type_missing_or_surplus_at_every_field_names_that_field():
+    doc = json.loads(SEED)
     count = 0
     for path, parent, key, action in list(_mutations(doc)):
         snapshot = json.dumps(doc)
@@ -149,9 +176,9 @@ def test_wrong_type_missing_or_surplus_at_every_field_names_that_field(data):
         count += 1
         if isinstance(result, Circuit):
             continue  # e.g. null where null is allowed, 0 for a bias, a dropped field with a default
-        shown = f"{path}.surplus" if action[0] == "surplus" else path
+        shown = join_path(path, "surplus") if action[0] == "surplus" else path
         assert any(p.startswith(shown) for p in result.problems), (path, action, result.problems)
-    assert count > 1000
+    assert count > 1500
 
 
 @FUZZ

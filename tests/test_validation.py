@@ -108,7 +108,9 @@ CASES = [
     ("name too long", edit(lambda d: _set(d, ["name"], "n" * 201)), "name: must have at most 200 characters"),
     ("sequences not a list", edit(lambda d: _set(d, ["sequences"], {})), "sequences: must be a list"),
     ("row keyed by a bad name", edit(lambda d: _set(d, ["sequences", 0, "clamps", "bad name"], [1])),
-     f"sequences[0].clamps.bad name (a key): {UNIT_NAME_RULE}"),
+     f'sequences[0].clamps["bad name"] (a key): {UNIT_NAME_RULE}'),
+    ("schedule keyed by a bad name", edit(lambda d: _set(d, ["schedule", "line\nbreak"], {})),
+     f'schedule["line\\nbreak"] (a key): {UNIT_NAME_RULE}'),
     ("trained without loss", edit(lambda d: _set(d, ["trained"], {"epochs": 3})), "trained.loss: is required"),
     ("infinite weight in file", edit(lambda d: _set(d, ["connections", 0, "weight"], float("inf"))),
      "(file): is not valid JSON: Infinity is not a number JSON allows"),
@@ -176,8 +178,17 @@ def test_cases_are_distinct_and_plain():
     assert len(CASES) >= 20 and len(set(messages)) == len(messages)
     for m in messages:
         assert ": " in m
+        assert "\n" not in m  # one problem, one line
         for jargon in ("Input should", "pydantic", "ValidationError", "type=", "dict", "[key]"):
             assert jargon not in m, m
+
+
+def test_a_unit_name_with_a_dot_is_quoted_in_paths():
+    c = base()
+    c.rename_unit("in", "layer.1")
+    c.sequences[0].clamps["layer.1"][2] = None
+    assert problems(c) == ['sequences[0].clamps["layer.1"]: \'layer.1\' is clamped at step 2, '
+                           "but the sequence has no value there"]
 
 
 def test_cell_problems_carry_unit_sequence_and_steps():

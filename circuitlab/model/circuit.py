@@ -10,7 +10,7 @@ from typing import Iterable, Literal
 
 from pydantic import Field
 
-from circuitlab.model.base import ModelBase
+from circuitlab.model.base import ModelBase, UnitName
 from circuitlab.model.connections import Connection
 from circuitlab.model.errors import ModelError
 from circuitlab.model.schedule import UnitSchedule
@@ -31,7 +31,7 @@ class Circuit(ModelBase):
     description: str = Field(default="", max_length=10_000)
     units: list[Unit] = Field(default_factory=list)
     connections: list[Connection] = Field(default_factory=list)
-    schedule: dict[str, UnitSchedule] = Field(default_factory=dict)
+    schedule: dict[UnitName, UnitSchedule] = Field(default_factory=dict)
     sequences: list[Sequence] = Field(default_factory=list)
     sequences_file: str | None = Field(
         default=None, min_length=1, max_length=1000,

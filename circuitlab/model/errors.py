@@ -1,5 +1,23 @@
 """Exceptions raised by the model layer, each with a message a user can act on."""
 
+import json
+import re
+
+_PLAIN_KEY = re.compile(r"[A-Za-z0-9_\-]+")
+
+
+def join_path(path: str, key: str | int) -> str:
+    """The field path ``path`` extended by a list index or an object key.
+
+    ``units[2]``, ``schedule.cue``; a key that would be ambiguous or unreadable
+    there (a dot, a space, a line break) is quoted: ``schedule["layer.1"]``.
+    """
+    if isinstance(key, int):
+        return f"{path}[{key}]"
+    if _PLAIN_KEY.fullmatch(key):
+        return f"{path}.{key}" if path else key
+    return f"{path}[{json.dumps(key)}]"
+
 
 class ModelError(ValueError):
     """An edit that the circuit cannot accept (unknown unit, duplicate name...)."""

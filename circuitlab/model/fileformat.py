@@ -21,7 +21,7 @@ import pydantic
 from circuitlab.model.circuit import FORMAT_NAME, FORMAT_VERSION, Circuit
 from circuitlab.model.csvdata import (SequenceCsvError, load_sequences_file, save_sequences_file,
                                       sequences_file_path)
-from circuitlab.model.errors import CircuitFileError, ModelError
+from circuitlab.model.errors import CircuitFileError, ModelError, join_path
 
 MAX_FILE_BYTES = 50 * 1024 * 1024
 FILE_SUFFIX = ".circuit.json"
@@ -232,13 +232,12 @@ def _lone_surrogates(node, path: str) -> list[str]:
                 out.append(path or "(file)")
         elif isinstance(node, dict):
             for key, value in node.items():
-                sub = f"{path}.{key}" if path else key
                 if not _is_unicode(key):
                     out.append(f"{path or '(file)'} (a key)")
                     continue
-                stack.append((value, sub))
+                stack.append((value, join_path(path, key)))
         elif isinstance(node, list):
-            stack.extend((v, f"{path}[{i}]") for i, v in enumerate(node))
+            stack.extend((v, join_path(path, i)) for i, v in enumerate(node))
     return sorted(out)
 
 
@@ -334,12 +333,7 @@ def describe_error(error: dict) -> str:
     """``connections[3].weight: must be a finite number`` from one pydantic error dict."""
     path = ""
     for part in error["loc"]:
-        if part == "[key]":
-            path += " (a key)"
-        elif isinstance(part, int):
-            path += f"[{part}]"
-        else:
-            path += f".{part}" if path else str(part)
+        path = path + " (a key)" if part == "[key]" else join_path(path, part)
     kind = error["type"]
     value = error.get("input")
     if kind == "float_type" and isinstance(value, int) and not isinstance(value, bool):

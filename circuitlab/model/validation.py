@@ -9,6 +9,7 @@ import math
 from dataclasses import dataclass
 
 from circuitlab.model.circuit import Circuit
+from circuitlab.model.errors import join_path
 from circuitlab.model.schedule import clamp_mask, schedule_covers_step0, target_mask
 from circuitlab.model.sequences import Sequence
 from circuitlab.model.units import Unit
@@ -90,7 +91,7 @@ def _check_schedule(circuit: Circuit, out: list[Problem]) -> None:
     names = set(circuit.unit_names())
     cross_entropy = circuit.training.loss == "cross_entropy"
     for name, sched in circuit.schedule.items():
-        path = f"schedule.{name}"
+        path = join_path("schedule", name)
         if name not in names:
             out.append(Problem(path, f"there is no unit named '{name}'"))
             continue
@@ -116,7 +117,7 @@ def _check_sequences(circuit: Circuit, out: list[Problem]) -> None:
         rows_ok = True
         for kind, rows in (("clamps", seq.clamps), ("targets", seq.targets)):
             for name, row in rows.items():
-                path = f"{base}.{kind}.{name}"
+                path = join_path(f"{base}.{kind}", name)
                 if name not in names:
                     out.append(Problem(path, f"there is no unit named '{name}'", sequence=seq.name))
                     rows_ok = False
@@ -151,11 +152,11 @@ def _check_cells(circuit: Circuit, unit: Unit, si: int, seq: Sequence, cross_ent
         out.append(Problem(base, f"unit '{name}' is both clamped and targeted at {_steps_text(both)}",
                            name, seq.name, both[0], tuple(both)))
     if no_clamp:
-        out.append(Problem(f"{base}.clamps.{name}", f"'{name}' is clamped at {_steps_text(no_clamp)}, "
+        out.append(Problem(join_path(f"{base}.clamps", name), f"'{name}' is clamped at {_steps_text(no_clamp)}, "
                            "but the sequence has no value there", name, seq.name, no_clamp[0],
                            tuple(no_clamp)))
     if no_target:
-        out.append(Problem(f"{base}.targets.{name}", f"'{name}' carries a target at "
+        out.append(Problem(join_path(f"{base}.targets", name), f"'{name}' carries a target at "
                            f"{_steps_text(no_target)}, but the sequence has no value there",
                            name, seq.name, no_target[0], tuple(no_target)))
     if cross_entropy:
@@ -163,12 +164,12 @@ def _check_cells(circuit: Circuit, unit: Unit, si: int, seq: Sequence, cross_ent
                    and not 0.0 <= seq.target_value(name, t) <= 1.0]
         if outside:
             d = seq.target_value(name, outside[0])
-            out.append(Problem(f"{base}.targets.{name}", f"cross-entropy targets must lie in [0, 1], "
+            out.append(Problem(join_path(f"{base}.targets", name), f"cross-entropy targets must lie in [0, 1], "
                                f"but '{name}' has {d:g} at step {outside[0]}"
                                + (f" (outside at {_steps_text(outside)})" if len(outside) > 1 else ""),
                                name, seq.name, outside[0], tuple(outside)))
     if seq.target_value(name, 0) is not None:
-        out.append(Problem(f"{base}.targets.{name}[0]", "step 0 is the initial state "
+        out.append(Problem(join_path(join_path(f"{base}.targets", name), 0), "step 0 is the initial state "
                            "and cannot carry a target", name, seq.name, 0, (0,)))
 
 
