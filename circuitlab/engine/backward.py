@@ -112,6 +112,8 @@ def backward(compiled: Compiled, params: Parameters, act: Activity, loss: str = 
     clamped at step 0 (the gradient of its learned or fixed initial state).
     ``truncation=k`` gives the truncated approximation of the module docstring.
     """
+    if truncation is not None and truncation < 1:
+        raise EngineError("truncation must be at least 1 step")
     value, gy, gnet = loss_terms(compiled, act, loss)
     y, net = act.y_tm, act.net_tm
     T1, S, n = y.shape
@@ -149,8 +151,6 @@ def _truncated(k: int, gy, gnet, fprime, keep, WT, e, delta) -> None:
     for ages a = 0..k; ``R[a]`` what reaches y(t) from channel a-1 at t+1.
     """
     T1, S, n = e.shape
-    if k < 1:
-        raise EngineError("truncation must be at least 1 step")
     D = np.zeros((k + 1, S, n))
     R = np.zeros((k + 1, S, n))
     for t in range(T1 - 1, 0, -1):
