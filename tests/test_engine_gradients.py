@@ -15,6 +15,9 @@ from circuitlab.engine import backward, compile_circuit, contributions, forward
 from circuitlab.model import clamp_mask, target_mask
 from engine_circuits import random_circuit
 
+# Circuits whose every parameter is frozen give autograd a function of nothing (it says so).
+pytestmark = pytest.mark.filterwarnings("ignore:Output seems independent of input")
+
 
 def _f(act, net):
     if act == "logistic":
