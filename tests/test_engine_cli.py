@@ -139,3 +139,27 @@ def test_train_exits_1_and_saves_finite_values_when_training_diverges(tmp_path, 
     report = json.loads(capsys.readouterr().out)
     assert "NaN or infinite" in report["stopped_because"] and not report["ok"]
     assert np.isfinite(load_circuit(out).connection("a", "a").weight)
+
+
+def test_run_past_the_data_needs_data_for_clamped_units():
+    c = constrained_circuit()  # 'x' is clamped at every step
+    with pytest.raises(api.EngineError, match="clamped at steps 6-20.*no value"):
+        api.run(c, steps=20)
+    c.set_schedule("x", c.schedule_for("x").model_copy(update={"clamp": "given"}))
+    run = api.run(c, steps=20)  # 'given': clamped where data exist, free after
+    assert run.y.shape == (4, 21, 3) and np.isfinite(run.y).all()
+    assert c.sequences[0].length == 5  # the circuit itself is untouched
+
+
+def test_compile_lists_the_circuit_problems():
+    from circuitlab.engine import compile_circuit
+    c = constrained_circuit()
+    c.sequences[1].targets["o"][3] = None
+    c.training.loss = "cross_entropy"
+    c.sequences[2].targets["o"][2] = 3.0
+    with pytest.raises(api.EngineError) as info:
+        compile_circuit(c)
+    text = str(info.value)
+    assert "2 problem(s)" in text or len(info.value.problems) >= 2
+    assert any("no value" in p for p in info.value.problems)
+    assert any("[0, 1]" in p for p in info.value.problems)
