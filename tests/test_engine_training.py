@@ -319,3 +319,18 @@ def test_write_back_matches_connections_by_name():
     tr.write_back(c)
     for conn in c.connections:
         assert shuffled.connection(*conn.key).weight == conn.weight
+
+
+def test_update_values_keeps_adam_moments_and_takes_new_settings():
+    c = constrained_circuit()
+    tr = Trainer(c)
+    for _ in range(3):
+        tr.epoch()
+    m = tr._optimizer.m.copy()
+    c.training.adam_beta1 = 0.5
+    tr.update_values(c)
+    assert tr._optimizer.beta1 == 0.5 and tr._optimizer.t == 3
+    np.testing.assert_array_equal(tr._optimizer.m, m)
+    c.training.optimizer = "sgd"
+    tr.update_values(c)
+    assert not hasattr(tr._optimizer, "m")

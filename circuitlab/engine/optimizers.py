@@ -14,6 +14,8 @@ from circuitlab.model import TrainingSettings
 class SGD:
     """Gradient descent with (heavy-ball) momentum: ``v = mu v + g``, ``theta -= lr v``."""
 
+    STATE = ("velocity",)
+
     def __init__(self, size: int, momentum: float = 0.0):
         self.momentum = momentum
         self.velocity = np.zeros(size)
@@ -26,6 +28,8 @@ class SGD:
 
 class Adam:
     """Adam (Kingma and Ba, 2015) with bias-corrected first and second moments."""
+
+    STATE = ("m", "v", "t")
 
     def __init__(self, size: int, beta1: float = 0.9, beta2: float = 0.999, epsilon: float = 1e-8):
         self.beta1, self.beta2, self.epsilon = beta1, beta2, epsilon
@@ -46,6 +50,14 @@ def make_optimizer(settings: TrainingSettings, size: int) -> SGD | Adam:
     if settings.optimizer == "sgd":
         return SGD(size, settings.momentum)
     return Adam(size, settings.adam_beta1, settings.adam_beta2, settings.adam_epsilon)
+
+
+def carry_state(new: SGD | Adam, old: SGD | Adam) -> SGD | Adam:
+    """``new`` (built from changed settings) continuing the moments of ``old`` if it is the same kind."""
+    if type(new) is type(old):
+        for name in new.STATE:
+            setattr(new, name, getattr(old, name))
+    return new
 
 
 def clip_by_global_norm(grad: np.ndarray, max_norm: float | None) -> np.ndarray:

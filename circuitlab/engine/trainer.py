@@ -21,7 +21,7 @@ from circuitlab.engine.backward import Backward, backward, loss_value
 from circuitlab.engine.compile import Compiled, Parameters, compile_circuit
 from circuitlab.engine.errors import EngineError
 from circuitlab.engine.forward import Activity, forward
-from circuitlab.engine.optimizers import clip_by_global_norm, learning_rate, make_optimizer
+from circuitlab.engine.optimizers import carry_state, clip_by_global_norm, learning_rate, make_optimizer
 from circuitlab.model import Circuit, TrainingRecord, TrainingSettings
 
 
@@ -97,9 +97,11 @@ class Trainer:
         nw = compiled.n_weight_params
         self._decay_mask = np.zeros(compiled.n_params, dtype=bool)
         self._decay_mask[:nw] = True
-        if not (keep_state and old_labels == compiled.param_labels
-                and type(self._optimizer) is type(make_optimizer(self.settings, 0))):
-            self._optimizer = make_optimizer(self.settings, compiled.n_params)
+        optimizer = make_optimizer(self.settings, compiled.n_params)
+        if keep_state and old_labels == compiled.param_labels:
+            self._optimizer = carry_state(optimizer, self._optimizer)
+        else:
+            self._optimizer = optimizer
             self._rng = np.random.default_rng(self.settings.seed)
 
     @property
