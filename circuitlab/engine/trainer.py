@@ -22,7 +22,9 @@ from circuitlab.engine.compile import Compiled, Parameters, compile_circuit
 from circuitlab.engine.errors import EngineError
 from circuitlab.engine.forward import Activity, forward
 from circuitlab.engine.optimizers import carry_state, clip_by_global_norm, learning_rate, make_optimizer
+from circuitlab.engine.activations import NAMES
 from circuitlab.model import Circuit, TrainingRecord, TrainingSettings
+from circuitlab.model.units import default_initial_state
 
 
 @dataclass(eq=False)
@@ -310,7 +312,7 @@ class Trainer:
         groups = comp.param_groups()
         theta[groups["biases"]] = 0.0
         theta[groups["initial states"]] = [
-            0.5 if comp.activation_codes[j] == 0 else 0.0 for j in comp.init_units]
+            default_initial_state(NAMES[comp.activation_codes[j]]) for j in comp.init_units]
         self._theta = theta
         self._good_theta = theta.copy()
         self._pending = None
