@@ -131,6 +131,10 @@ class SequencesPanel(QWidget):
         return sorted((n for n in names if n in order), key=order.index)
 
     def set_current(self, name: str) -> None:
+        """Make ``name`` the current (and only selected) sequence."""
+        if self._refresh_timer.isActive():  # show the latest list first
+            self._refresh_timer.stop()
+            self.refresh()
         names = [s.name for s in self.document.circuit.sequences]
         if name in names:
             self.list.setCurrentCell(names.index(name), 0)
