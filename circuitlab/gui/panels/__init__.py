@@ -10,6 +10,7 @@ import importlib
 
 PANEL_SETUPS: list[str] = [
     "circuitlab.gui.panels.properties:setup",
+    "circuitlab.gui.panels.sequences_panel:setup",
 ]
 
 
