@@ -218,3 +218,16 @@ def test_large_grid_builds_and_pastes(qtbot):
     assert c.sequences[0].clamps["u49"] == [1.0] * 500
     assert np.array([c.sequences[0].clamps[f"u{i}"] for i in range(50)]).sum() == 25_000
     doc.undo_stack.cleanChanged.disconnect()
+
+
+def test_docked_in_the_main_window_and_following_the_canvas_selection(make_main_window, examples_dir, qtbot):
+    win = make_main_window(examples_dir / "two_step_echo.circuit.json", size=(1400, 900))
+    grid, sequences = win.schedule_grid, win.sequences_panel
+    assert win.panel("schedule_grid").widget() is grid and win.panel("sequences").widget() is sequences
+    qtbot.waitUntil(lambda: grid.model.sequence_name == win.document.circuit.sequences[0].name, timeout=2000)
+    win.canvas.fit_to_view()
+    item = win.canvas.circuit_scene.units["echo"]
+    pos = win.canvas.mapFromScene(item.sceneBoundingRect().center())
+    qtbot.mouseClick(win.canvas.viewport(), Qt.MouseButton.LeftButton, pos=pos)
+    assert win.canvas.selected()[0] == ["echo"]
+    assert grid.model.highlighted == {"echo"}
