@@ -14,6 +14,7 @@ from circuitlab.cli.output import emit_json
 # suite name -> "module:function"
 SUITES: dict[str, str] = {
     "engine": "circuitlab.engine.benchmarks:run",
+    "grid": "circuitlab.gui.panels.schedule_grid_bench:run",
 }
 
 

@@ -299,7 +299,8 @@ class ScheduleModel(QAbstractTableModel):
         unit = self._units[section]
         if role == Qt.ItemDataRole.DisplayRole:
             role_text = self._role_text(section)
-            return ("! " if section in self._row_problems else "") + unit + (f" · {role_text}" if role_text else "")
+            mark = ("! " if section in self._row_problems else "") + ("▸ " if unit in self.highlighted else "")
+            return mark + unit + (f" · {role_text}" if role_text else "")
         if role == Qt.ItemDataRole.ToolTipRole:
             lines = [f"{unit}: {self._role_text(section, long=True)}"]
             lines += [f"problem: {m}" for m in self._row_problems.get(section, [])]
@@ -442,32 +443,62 @@ class Legend(QWidget):
     """Sample cells with captions, drawn by the grid's own painter."""
 
     SAMPLES = [
-        (Cell(clamped=True, clamp_value=1.0), "clamped (bar, bold)"),
-        (Cell(targeted=True, target_value=0.5), "target (dashed, italic)"),
+        (Cell(clamped=True, clamp_value=1.0), "clamped"),
+        (Cell(targeted=True, target_value=0.5), "target"),
         (Cell(initial="learned", initial_value=0.2), "learned initial"),
         (Cell(initial="fixed", initial_value=0.5), "fixed initial"),
         (Cell(clamp_value=0.3), "stored, unused"),
         (Cell(clamped=True, problems=["x"]), "problem"),
     ]
 
+    def __init__(self, parent=None):
+        super().__init__(parent)
+        self.setToolTip("Clamped: solid bar at the left, value in bold.\n"
+                        "Target: dashed frame, value in italics.\n"
+                        "◆ learned initial state, ○ fixed initial state (step 0).\n"
+                        "(v): a stored value the schedule does not use.\n"
+                        "?: the schedule needs a value here and none is given.\n"
+                        "Red double frame with a ! corner: a problem; hover over the cell for the reason.")
+
+    SAMPLE_W, ROW_H = 40, 24
+
+    def _places(self, width: int) -> list[tuple[int, int, int]]:
+        """(x, y, caption width) of each sample, wrapping into rows to fit ``width``."""
+        fm = self.fontMetrics()
+        x, y, out = 2, 1, []
+        for _cell, caption in self.SAMPLES:
+            w = fm.horizontalAdvance(caption) + 4
+            if x > 2 and x + self.SAMPLE_W + 4 + w > width:
+                x, y = 2, y + self.ROW_H
+            out.append((x, y, w))
+            x += self.SAMPLE_W + 4 + w + 12
+        return out
+
+    def hasHeightForWidth(self) -> bool:
+        return True
+
+    def heightForWidth(self, width: int) -> int:
+        return self._places(width)[-1][1] + self.ROW_H + 1
+
     def sizeHint(self) -> QSize:
-        return QSize(760, 26)
+        return QSize(640, self.heightForWidth(640))
+
+    def minimumSizeHint(self) -> QSize:
+        return QSize(160, self.heightForWidth(max(160, self.width())))
+
+    def resizeEvent(self, event):
+        self.setMinimumHeight(self.heightForWidth(event.size().width()))
+        super().resizeEvent(event)
 
     def paintEvent(self, event):
         p = QPainter(self)
-        p.setRenderHint(QPainter.RenderHint.Antialiasing, False)
-        x, h = 4, 22
-        fm = self.fontMetrics()
-        for cell, caption in self.SAMPLES:
-            paint_cell(p, QRect(x, 2, 44, h), cell, self.font())
-            x += 48
+        h = self.ROW_H - 2
+        p.setPen(self.palette().color(QPalette.ColorRole.WindowText))
+        for (cell, caption), (x, y, w) in zip(self.SAMPLES, self._places(self.width())):
+            paint_cell(p, QRect(x, y, self.SAMPLE_W, h), cell, self.font())
             p.setPen(self.palette().color(QPalette.ColorRole.WindowText))
-            p.drawText(QRect(x, 2, fm.horizontalAdvance(caption) + 4, h), Qt.AlignmentFlag.AlignVCenter, caption)
-            x += fm.horizontalAdvance(caption) + 16
+            p.drawText(QRect(x + self.SAMPLE_W + 4, y, w, h), Qt.AlignmentFlag.AlignVCenter, caption)
         p.end()
-
-    def minimumSizeHint(self) -> QSize:
-        return QSize(200, 26)
 
 
 class ScheduleGridPanel(QWidget):
@@ -488,7 +519,8 @@ class ScheduleGridPanel(QWidget):
         self.target_button = self._preset_button("Target", TARGET_PRESETS, self._target_action)
         self.value_edit = QLineEdit()
         self.value_edit.setPlaceholderText("value")
-        self.value_edit.setMaximumWidth(80)
+        self.value_edit.setMinimumWidth(60)
+        self.value_edit.setMaximumWidth(90)
         self.value_edit.returnPressed.connect(self.fill_selection)
         self.fill_button = QPushButton("Fill selection")
         self.fill_button.clicked.connect(self.fill_selection)
@@ -505,10 +537,14 @@ class ScheduleGridPanel(QWidget):
         bar = QHBoxLayout()
         bar.setContentsMargins(0, 0, 0, 0)
         for w in (QLabel("Sequence"), self.sequence_box, self.clamp_button, self.target_button,
-                  self.value_edit, self.fill_button, self.clear_button, QLabel("Free cells take"),
-                  self.free_box):
+                  self.value_edit, self.fill_button, self.clear_button):
             bar.addWidget(w)
         bar.addStretch(1)
+        second = QHBoxLayout()
+        second.setContentsMargins(0, 0, 0, 0)
+        second.addWidget(Legend(), 1)
+        second.addWidget(QLabel("Free cells take"))
+        second.addWidget(self.free_box)
 
         self.view = GridView()
         self.view.setModel(self.model)
@@ -552,7 +588,7 @@ class ScheduleGridPanel(QWidget):
         layout = QVBoxLayout(self)
         layout.setContentsMargins(4, 4, 4, 4)
         layout.addLayout(bar)
-        layout.addWidget(Legend())
+        layout.addLayout(second)
         layout.addWidget(split, 1)
         layout.addWidget(self.status)
 
@@ -626,6 +662,7 @@ class ScheduleGridPanel(QWidget):
             item.setData(Qt.ItemDataRole.UserRole, (p.unit, p.step))
             item.setToolTip(str(p))
             self.problem_list.addItem(item)
+        self.problem_list.setVisible(bool(self.model.problems))
         n, other = len(self.model.problems), self.model.other_problems
         text = f"{n} problem{'s' if n != 1 else ''} in this sequence and its schedule" if n else \
             "No problems in this sequence"
