@@ -51,3 +51,28 @@ def test_import_adds_to_existing_sequences(echo, tmp_path):
     assert main(["sequences", "import", str(echo), str(extra)]) == 0
     seqs = load_circuit(echo).sequences
     assert len(seqs) == n + 1 and seqs[-1].held_out and seqs[-1].targets == {"echo": [None, 0.25]}
+
+
+@pytest.fixture
+def xy_circuit(tmp_path):
+    from circuitlab.model import Circuit, Sequence, Unit, save_circuit
+
+    c = Circuit(units=[Unit(name="x"), Unit(name="y")],
+                sequences=[Sequence(name="kept", length=1, clamps={"x": [0.0, 1.0]})])
+    path = tmp_path / "xy.circuit.json"
+    save_circuit(c, path)
+    return path
+
+
+def test_every_malformed_case_exits_1_naming_its_place_and_changes_nothing(xy_circuit, tmp_path, capsys):
+    from test_csvdata import MALFORMED
+
+    before = xy_circuit.read_bytes()
+    for i, (text, line, column, words) in enumerate(MALFORMED):
+        bad = tmp_path / f"bad{i}.csv"
+        bad.write_text(text)
+        assert main(["sequences", "import", str(xy_circuit), str(bad), "--replace"]) == 1, text
+        err = capsys.readouterr().err
+        where = f"line {line}" + (f", column {column}" if column else "")
+        assert f"{where}: " in err and words in err, (text, err)
+        assert xy_circuit.read_bytes() == before

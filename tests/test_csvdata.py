@@ -96,3 +96,13 @@ def test_circuit_with_sequences_file_reads_and_writes_the_csv(tmp_path):
     with pytest.raises(Exception) as info:
         load_circuit(tmp_path / "c.circuit.json")
     assert "sequences_file: " in str(info.value) and "line 3, column 2" in str(info.value)
+
+
+def test_the_readme_example_reads_as_documented():
+    from conftest import ROOT
+
+    readme = (ROOT / "README.md").read_text()
+    block = readme.split("```csv\n", 1)[1].split("```", 1)[0]
+    (seq,) = read_csv(block, ["sensor", "echo"])
+    assert seq.length == 3 and seq.clamps == {"sensor": [1.0, 0.0, 1.0, 1.0]}
+    assert seq.targets == {"echo": [None, None, 1.0, 0.0]}
