@@ -3,7 +3,7 @@ CSV import are single undo steps, and a malformed CSV changes nothing."""
 
 import pytest
 from PySide6.QtCore import Qt
-from PySide6.QtWidgets import QDialogButtonBox, QLineEdit, QSpinBox
+from PySide6.QtWidgets import QDialogButtonBox, QLineEdit
 
 from circuitlab.gui.document import Document
 from circuitlab.gui.panels.schedule_grid import ScheduleGridPanel
@@ -50,8 +50,7 @@ def cell_click(qtbot, p, row, col, double=False):
 def edit_cell(qtbot, p, row, col, text):
     cell_click(qtbot, p, row, col)
     cell_click(qtbot, p, row, col, double=True)
-    editor = p.list.viewport().findChild(QLineEdit) or p.list.findChild(QSpinBox)
-    editor = editor if not isinstance(editor, QSpinBox) else editor.findChild(QLineEdit)
+    editor = p.list.viewport().findChild(QLineEdit)  # the name's editor, or the length spin box's text
     editor.selectAll()
     qtbot.keyClicks(editor, text)
     qtbot.keyClick(editor, Qt.Key.Key_Return)

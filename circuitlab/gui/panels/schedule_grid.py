@@ -515,7 +515,7 @@ class ScheduleGridPanel(QWidget):
         self.sequence_box = QComboBox()
         self.sequence_box.setMinimumContentsLength(12)
         self.sequence_box.currentTextChanged.connect(self._sequence_chosen)
-        self.clamp_button = self._preset_button("Clamp", CLAMP_PRESETS, self._clamp_action)
+        self.clamp_button = self._preset_button("Clamp", CLAMP_PRESETS, self.set_clamp)
         self.target_button = self._preset_button("Target", TARGET_PRESETS, self._target_action)
         self.value_edit = QLineEdit()
         self.value_edit.setPlaceholderText("value")
@@ -664,8 +664,12 @@ class ScheduleGridPanel(QWidget):
             self.problem_list.addItem(item)
         self.problem_list.setVisible(bool(self.model.problems))
         n, other = len(self.model.problems), self.model.other_problems
-        text = f"{n} problem{'s' if n != 1 else ''} in this sequence and its schedule" if n else \
-            "No problems in this sequence"
+        if self.model.sequence_name is None:
+            text = "No sequence yet: add or generate one in the Sequences panel"
+        elif n:
+            text = f"{n} problem{'s' if n != 1 else ''} in this sequence and its schedule"
+        else:
+            text = "No problems in this sequence"
         if other:
             text += f"; {other} elsewhere (see the circuit's problems)"
         if n or other:
@@ -740,9 +744,6 @@ class ScheduleGridPanel(QWidget):
                              c.units[row].initial_mode)
         label = dict(TARGET_PRESETS)[mode].rstrip(".").lower().replace(" k ", f" {last} ")
         self.document.push(SetSchedules(self.document, changes, f"{label} for {_units_text(changes)}"))
-
-    def _clamp_action(self, mode: str) -> None:
-        self.set_clamp(mode)
 
     def _target_action(self, mode: str) -> None:
         last = 1

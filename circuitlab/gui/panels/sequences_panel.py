@@ -62,7 +62,7 @@ class SequencesPanel(QWidget):
         self.up_button.clicked.connect(lambda: self.move_current(-1))
         self.down_button.clicked.connect(lambda: self.move_current(+1))
         self.generate_button.clicked.connect(self.open_generator)
-        self.import_button.clicked.connect(self._ask_import)
+        self.import_button.clicked.connect(lambda: self._ask_import())
         self.export_button.clicked.connect(self._ask_export)
 
         buttons = QGridLayout()
@@ -306,7 +306,8 @@ class SequencesPanel(QWidget):
             self.status.setText(str(exc))
             return False
         except ModelError as exc:
-            self.status.setText(f"{path}: {exc}; nothing was imported")
+            self.status.setText(f"{path}: {exc}; nothing was imported (to replace all the sequences "
+                                "instead, use Circuit > Replace sequences from CSV...)")
             return False
         self.document.push(cmd)
         self.status.setText(f"Imported {len(seqs)} sequences from {Path(path).name}")
@@ -321,10 +322,11 @@ class SequencesPanel(QWidget):
         self.status.setText(f"Wrote {len(self.document.circuit.sequences)} sequences to {Path(path).name}")
         return True
 
-    def _ask_import(self) -> None:
-        path, _ = QFileDialog.getOpenFileName(self, "Import sequences", "", "CSV files (*.csv);;All files (*)")
+    def _ask_import(self, replace: bool = False) -> None:
+        title = "Replace sequences from CSV" if replace else "Import sequences"
+        path, _ = QFileDialog.getOpenFileName(self, title, "", "CSV files (*.csv);;All files (*)")
         if path:
-            self.import_csv(path)
+            self.import_csv(path, replace)
 
     def _ask_export(self) -> None:
         path, _ = QFileDialog.getSaveFileName(self, "Export sequences", "sequences.csv", "CSV files (*.csv)")
@@ -354,5 +356,6 @@ def setup(window) -> None:
     menu.addSeparator()
     for text, slot in (("Generate sequences...", sequences.open_generator),
                        ("Import sequences from CSV...", sequences._ask_import),
+                       ("Replace sequences from CSV...", lambda: sequences._ask_import(replace=True)),
                        ("Export sequences to CSV...", sequences._ask_export)):
         menu.addAction(text).triggered.connect(lambda _checked=False, s=slot: s())
