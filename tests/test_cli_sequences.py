@@ -65,7 +65,7 @@ def xy_circuit(tmp_path):
 
 
 def test_every_malformed_case_exits_1_naming_its_place_and_changes_nothing(xy_circuit, tmp_path, capsys):
-    from test_csvdata import MALFORMED
+    from test_csvdata import MALFORMED  # tests/ is on the path: the same cases as the reader's tests
 
     before = xy_circuit.read_bytes()
     for i, (text, line, column, words) in enumerate(MALFORMED):

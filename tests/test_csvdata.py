@@ -2,6 +2,7 @@
 
 import csv
 import io
+from pathlib import Path
 
 import pytest
 
@@ -97,9 +98,7 @@ def test_circuit_with_sequences_file_reads_and_writes_the_csv(tmp_path):
 
 
 def test_the_readme_example_reads_as_documented():
-    from conftest import ROOT
-
-    readme = (ROOT / "README.md").read_text()
+    readme = (Path(__file__).resolve().parent.parent / "README.md").read_text()
     block = readme.split("```csv\n", 1)[1].split("```", 1)[0]
     (seq,) = read_csv(block, ["sensor", "echo"])
     assert seq.length == 3 and seq.clamps == {"sensor": [1.0, 0.0, 1.0, 1.0]}
