@@ -1,0 +1,61 @@
+"""Export of the training views: the picture (PNG, SVG via pyqtgraph's exporters) and the data (CSV)."""
+
+import csv
+from pathlib import Path
+
+import pyqtgraph.exporters as exporters
+from PySide6.QtWidgets import QFileDialog, QMenu, QMessageBox, QToolButton
+
+
+def export_png(item, path: str | Path, width: int | None = None) -> None:
+    """Render a pyqtgraph item (a PlotItem or a layout) to a PNG file."""
+    exporter = exporters.ImageExporter(item)
+    if width:
+        exporter.parameters()["width"] = int(width)
+    exporter.export(str(path))
+
+
+def export_svg(item, path: str | Path) -> None:
+    exporters.SVGExporter(item).export(str(path))
+
+
+def write_csv(path: str | Path, header: list[str], rows: list[list]) -> None:
+    """Plain comma-separated values with one header line (full float precision)."""
+    with open(path, "w", newline="", encoding="utf-8") as fh:
+        out = csv.writer(fh)
+        out.writerow(header)
+        out.writerows([repr(v) if isinstance(v, float) else v for v in row] for row in rows)
+
+
+def export_button(parent, name: str, item_of, table_of) -> QToolButton:
+    """A small "Export" button with PNG / SVG / CSV entries for one view.
+
+    ``item_of()`` returns the pyqtgraph item to draw, ``table_of()`` returns
+    ``(header, rows)``; both are called at export time so they see the latest data.
+    """
+    button = QToolButton(parent)
+    button.setText("Export")
+    button.setToolTip(f"Save the {name} as a picture (PNG, SVG) or its numbers as CSV")
+    button.setPopupMode(QToolButton.ToolButtonPopupMode.InstantPopup)
+    menu = QMenu(button)
+    stem = name.replace(" ", "_")
+
+    def save(kind: str) -> None:
+        filters = {"png": "PNG image (*.png)", "svg": "SVG drawing (*.svg)", "csv": "CSV table (*.csv)"}
+        path, _ = QFileDialog.getSaveFileName(parent, f"Export {name}", f"{stem}.{kind}", filters[kind])
+        if not path:
+            return
+        try:
+            if kind == "png":
+                export_png(item_of(), path)
+            elif kind == "svg":
+                export_svg(item_of(), path)
+            else:
+                write_csv(path, *table_of())
+        except OSError as exc:
+            QMessageBox.warning(parent, f"Export {name}", f"Could not write {path}: {exc.strerror or exc}")
+
+    for kind, label in (("png", "Picture (PNG)..."), ("svg", "Drawing (SVG)..."), ("csv", "Data (CSV)...")):
+        menu.addAction(label, lambda k=kind: save(k))
+    button.setMenu(menu)
+    return button

@@ -1,0 +1,109 @@
+"""Colours, colour maps and plot set-up shared by the training views.
+
+One place decides the look so the unrolled network, the activity stack and
+the curves read as one tool: light background, dark text, states on a
+sequential map, derivatives on a diverging map centred on zero.
+"""
+
+import numpy as np
+import pyqtgraph as pg
+from PySide6.QtGui import QColor, QFont
+
+BACKGROUND = "#ffffff"
+FOREGROUND = "#303030"
+GRID_ALPHA = 0.15
+POSITIVE = QColor("#c0392b")    # excitatory (positive) weights
+NEGATIVE = QColor("#2471a3")    # inhibitory (negative) weights
+HIGHLIGHT = QColor("#f0a202")   # selection: amber, apart from both weight colours
+TRAIN_PEN = pg.mkPen("#1f618d", width=2)
+HELD_OUT_PEN = pg.mkPen("#d35400", width=2, style=pg.QtCore.Qt.PenStyle.DashLine)
+SECONDARY_PEN = pg.mkPen("#5d6d7e", width=1.5)
+
+STATE_MAP = "viridis"   # forward states y
+SIGNED_MAP = "CET-D1"   # e and delta: blue below zero, white at zero, red above
+
+
+def colormap(name: str) -> pg.ColorMap:
+    return pg.colormap.get(name)
+
+
+def state_levels(y: np.ndarray) -> tuple[float, float]:
+    """Colour range for states: [0, 1] when they fit (logistic units), else symmetric or data range."""
+    finite = y[np.isfinite(y)]
+    if finite.size == 0:
+        return 0.0, 1.0
+    lo, hi = float(finite.min()), float(finite.max())
+    if lo >= 0.0 and hi <= 1.0:
+        return 0.0, 1.0
+    if lo >= -1.0 and hi <= 1.0:
+        return -1.0, 1.0
+    return (lo, hi) if hi > lo else (lo - 1.0, hi + 1.0)
+
+
+def signed_levels(values: np.ndarray) -> tuple[float, float]:
+    """Symmetric colour range around zero for derivatives."""
+    finite = np.abs(values[np.isfinite(values)])
+    m = float(finite.max()) if finite.size else 0.0
+    m = m if m > 0 else 1e-12
+    return -m, m
+
+
+def small_font(points: int = 9) -> QFont:
+    f = QFont()
+    f.setPointSize(points)
+    return f
+
+
+def plot_widget(**kwargs) -> pg.PlotWidget:
+    """A PlotWidget in the common look (white background, light grid)."""
+    w = pg.PlotWidget(background=BACKGROUND, **kwargs)
+    style_plot(w.getPlotItem())
+    return w
+
+
+def style_plot(plot: pg.PlotItem) -> None:
+    plot.showGrid(x=True, y=True, alpha=GRID_ALPHA)
+    for name in ("left", "bottom", "right", "top"):
+        axis = plot.getAxis(name)
+        axis.setPen(pg.mkPen(FOREGROUND))
+        axis.setTextPen(pg.mkPen(FOREGROUND))
+        axis.setTickFont(small_font())
+    plot.getAxis("bottom").setHeight(38)  # room for the tick labels and the axis title
+    plot.titleLabel.item.setDefaultTextColor(QColor(FOREGROUND))
+
+
+def set_title(plot: pg.PlotItem, text: str) -> None:
+    plot.setTitle(text, color=FOREGROUND, size="10pt")
+
+
+class TidyLogAxis(pg.AxisItem):
+    """An axis whose log mode labels decades (and 2 and 5 times them when under two decades
+    show), instead of every minor tick, so small plots stay legible."""
+
+    def logTickValues(self, minVal, maxVal, size, stdTicks):
+        lo, hi = int(np.floor(minVal)), int(np.ceil(maxVal))
+        decades = [float(d) for d in range(lo, hi + 1) if minVal <= d <= maxVal]
+        between = [d + np.log10(m) for d in range(lo, hi + 1) for m in (2, 5)
+                   if minVal <= d + np.log10(m) <= maxVal]
+        if len(decades) >= 2:
+            return [(1.0, decades), (None, between)]
+        return [(None, sorted(decades + between))]
+
+
+def fit_name_axis(axis: pg.AxisItem, names: list[str]) -> None:
+    """Make a left axis just wide enough for the longest unit name."""
+    from PySide6.QtGui import QFontMetrics
+    metrics = QFontMetrics(axis.style.get("tickFont") or small_font())
+    widest = max((metrics.horizontalAdvance(n) for n in names), default=20)
+    axis.setWidth(min(widest + 14, 160))
+
+
+def nice_stride(count: int, pixels: float, min_pixels: float) -> int:
+    """The smallest stride in 1, 2, 5, 10, 20... that keeps labels ``min_pixels`` apart."""
+    if count <= 0 or pixels <= 0:
+        return 1
+    per = pixels / count
+    for base in (1, 2, 5, 10, 20, 25, 50, 100, 200, 250, 500, 1000, 2000, 5000, 10000):
+        if per * base >= min_pixels:
+            return base
+    return 10000
