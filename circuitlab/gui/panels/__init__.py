@@ -11,6 +11,7 @@ import importlib
 PANEL_SETUPS: list[str] = [
     "circuitlab.gui.panels.properties:setup",
     "circuitlab.gui.panels.sequences_panel:setup",
+    "circuitlab.gui.training:setup",
 ]
 
 
