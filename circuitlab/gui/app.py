@@ -48,6 +48,9 @@ def run_editor(args) -> int:
             window.document.replace(circuit, os.path.abspath(args.file))
         else:
             window.files.open_path(args.file, ask=False)
+    elif not screenshot:
+        from circuitlab.gui.examples_menu import open_on_first_start
+        open_on_first_start(window)
     if screenshot:
         from circuitlab.gui.screenshot import render_window
         for entry in BEFORE_SCREENSHOT:

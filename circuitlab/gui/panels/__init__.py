@@ -12,6 +12,7 @@ PANEL_SETUPS: list[str] = [
     "circuitlab.gui.panels.properties:setup",
     "circuitlab.gui.panels.sequences_panel:setup",
     "circuitlab.gui.training:setup",
+    "circuitlab.gui.examples_menu:setup",
 ]
 
 
