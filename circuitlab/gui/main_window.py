@@ -4,8 +4,9 @@ Other parts of the editor extend it through a small public surface:
 ``add_panel`` docks a widget (and lists it under View > Panels),
 ``menu(name)`` and ``tool_bar(name)`` return (creating if needed) a menu or
 tool bar to add actions to, ``document`` and ``canvas`` are the live
-document and the central view, and ``selection_changed`` follows the canvas
-selection as (unit names, connection keys).
+document and the central view, ``selection_changed`` follows the canvas
+selection as (unit names, connection keys), and ``closing`` is emitted once
+when the window goes away (stop threads there).
 """
 
 from pathlib import Path
@@ -29,6 +30,7 @@ class MainWindow(QMainWindow):
     """The editor window for one document."""
 
     selection_changed = Signal(list, list)  # unit names, connection keys (source, target)
+    closing = Signal()  # the window is going away: stop worker threads, flush what must be kept
 
     def __init__(self, document: Document | None = None, autosave_dir=None, restore_layout: bool = True,
                  parent=None):
@@ -223,10 +225,16 @@ class MainWindow(QMainWindow):
         s.setValue("window/state", self.saveState(STATE_VERSION))
         s.setValue("canvas/snap", self.canvas.actions_["snap"].isChecked())
 
+    def shutdown(self, save_layout: bool = True) -> None:
+        """Leave without questions: keep the layout, clear this session's autosave, tell the panels."""
+        if save_layout:
+            self.save_layout()
+        self.closing.emit()
+        self.files.shutdown()
+
     def closeEvent(self, event) -> None:
         if not self.files.maybe_save():
             event.ignore()
             return
-        self.save_layout()
-        self.files.shutdown()
+        self.shutdown()
         event.accept()

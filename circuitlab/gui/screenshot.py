@@ -1,5 +1,7 @@
 """Render the whole main window offscreen to a PNG (``circuitlab FILE --screenshot OUT.png``)."""
 
+import sys
+
 from PySide6.QtWidgets import QApplication
 
 
@@ -26,4 +28,8 @@ def render_window(window, path: str, size: tuple[int, int]) -> bool:
     settle()
     window.canvas.fit_to_view()
     settle()
-    return window.grab().save(path)
+    image = window.grab()
+    if (window.width(), window.height()) != size:
+        print(f"circuitlab: the window needs at least {window.width()}x{window.height()}; "
+              "the picture has that size", file=sys.stderr)
+    return image.save(path)

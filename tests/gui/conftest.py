@@ -39,6 +39,10 @@ def make_main_window(qtbot, autosave_dir):
 
     def make(circuit: Circuit | str | None = None, size=(1200, 800)):
         win = MainWindow(autosave_dir=autosave_dir)
+        # no modal question may block a test; tests of the prompts replace these answers
+        win.files.ask_save_changes = lambda: "discard"
+        win.files.ask_revert = lambda: True
+        win.files.ask_recover = lambda path, saved_at: False
         qtbot.addWidget(win)
         if isinstance(circuit, Circuit):
             win.document.replace(circuit, None)
@@ -52,7 +56,6 @@ def make_main_window(qtbot, autosave_dir):
 
     yield make
     for win in windows:
-        win.files.ask_save_changes = lambda: "discard"
         win.files.shutdown()
 
 

@@ -14,7 +14,7 @@ import math
 from dataclasses import dataclass
 
 from PySide6.QtCore import QPointF, QRectF, Qt
-from PySide6.QtGui import (QBrush, QColor, QFont, QFontMetricsF, QPainter, QPainterPath,
+from PySide6.QtGui import (QFont, QFontMetricsF, QPainter, QPainterPath,
                            QPainterPathStroker, QPen, QPolygonF)
 from PySide6.QtWidgets import QGraphicsItem, QStyle
 
@@ -197,40 +197,44 @@ def draw_learned_mark(painter: QPainter, at: QPointF) -> None:
 
 
 class ConnectionItem(QGraphicsItem):
-    """A connection arrow; colour and width show the weight's sign and size."""
+    """A connection arrow: its geometry, weight level and picking shape.
 
-    def __init__(self, connection: Connection, source: UnitItem, target: UnitItem):
+    It paints nothing itself (the scene's EdgeLayer draws all arrows in
+    batches); it is still what the mouse hits, selects and hovers.
+    """
+
+    def __init__(self, connection: Connection, source: UnitItem, target: UnitItem, layer):
         super().__init__()
         self.connection = connection
         self.source = source
         self.target = target
+        self.layer = layer
         self.bent = False
-        self.color = style.ZERO_WEIGHT
-        self.width = style.MIN_EDGE_WIDTH
+        self.level = 0
         self.frozen = not connection.trains
-        self._path = QPainterPath()
-        self._arrow = QPolygonF()
+        self.path = QPainterPath()
+        self.arrow = QPolygonF()
         self._shape: QPainterPath | None = None
         self._bounds = QRectF()
-        self.setFlags(QGraphicsItem.ItemIsSelectable)
+        self.setFlags(QGraphicsItem.ItemIsSelectable | QGraphicsItem.ItemHasNoContents)
         self.setAcceptHoverEvents(True)
-        self.setZValue(0.0)
+        self.setZValue(0.5)
 
     @property
     def key(self) -> tuple[str, str]:
         return self.connection.key
 
+    @property
+    def width(self) -> float:
+        return style.level_style(self.level)[1]
+
     def update_geometry(self) -> None:
         self.prepareGeometryChange()
-        self._path, self._arrow = edge_path(self.source.pos(), self.target.pos(), self.bent)
+        self.path, self.arrow = edge_path(self.source.pos(), self.target.pos(), self.bent)
         self._shape = None
         pad = style.MAX_EDGE_WIDTH + 2
-        self._bounds = self._path.boundingRect().united(self._arrow.boundingRect()).adjusted(-pad, -pad, pad, pad)
-
-    def set_style(self, color: QColor, width: float, frozen: bool) -> None:
-        if color != self.color or width != self.width or frozen != self.frozen:
-            self.color, self.width, self.frozen = color, width, frozen
-            self.update()
+        self._bounds = self.path.boundingRect().united(self.arrow.boundingRect()).adjusted(-pad, -pad, pad, pad)
+        self.layer.edge_changed(self)
 
     def boundingRect(self) -> QRectF:
         return self._bounds
@@ -239,26 +243,17 @@ class ConnectionItem(QGraphicsItem):
         if self._shape is None:
             stroker = QPainterPathStroker()
             stroker.setWidth(max(9.0, self.width + 5))
-            self._shape = stroker.createStroke(self._path)
-            self._shape.addPolygon(self._arrow)
+            self._shape = stroker.createStroke(self.path)
+            self._shape.addPolygon(self.arrow)
         return self._shape
 
     def paint(self, painter: QPainter, option, widget=None) -> None:
-        painter.setRenderHint(QPainter.Antialiasing)
-        selected = bool(option.state & QStyle.State_Selected)
-        if selected:
-            painter.setPen(QPen(style.SELECTED_EDGE, self.width + 4.0, Qt.SolidLine, Qt.RoundCap))
-            painter.setBrush(Qt.NoBrush)
-            painter.drawPath(self._path)
-        pen = QPen(self.color, self.width, Qt.DashLine if self.frozen else Qt.SolidLine, Qt.FlatCap)
-        if self.frozen:
-            pen.setDashPattern([3.0, 2.0])
-        painter.setPen(pen)
-        painter.setBrush(Qt.NoBrush)
-        painter.drawPath(self._path)
-        painter.setPen(QPen(style.SELECTED_EDGE if selected else self.color, 1.0))
-        painter.setBrush(QBrush(self.color))
-        painter.drawPolygon(self._arrow)
+        """Never called (ItemHasNoContents); the EdgeLayer draws the arrow."""
+
+    def itemChange(self, change, value):
+        if change == QGraphicsItem.ItemSelectedHasChanged:
+            self.layer.update()
+        return super().itemChange(change, value)
 
     def hoverEnterEvent(self, event) -> None:
         if self.scene() is not None:

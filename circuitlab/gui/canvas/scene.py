@@ -12,6 +12,7 @@ from PySide6.QtGui import QPainter, QPen
 from PySide6.QtWidgets import QGraphicsScene
 
 from circuitlab.gui.canvas import style
+from circuitlab.gui.canvas.edge_layer import EdgeLayer
 from circuitlab.gui.canvas.items import ConnectionItem, UnitItem, UnitLook
 from circuitlab.gui.document import Document
 from circuitlab.model import Connection, Unit
@@ -28,6 +29,8 @@ class CircuitScene(QGraphicsScene):
         self.snap_to_grid = False
         self.units: dict[str, UnitItem] = {}
         self.edges: dict[tuple[str, str], ConnectionItem] = {}
+        self.layer: EdgeLayer | None = None
+        self._order: list[ConnectionItem | None] = []  # the item of each connection, in circuit order
         self.scale = 1.0
         self.frozen_positions: set[str] = set()  # units being dragged: their model position lags
         document.structure_changed.connect(self.sync_structure)
@@ -41,7 +44,9 @@ class CircuitScene(QGraphicsScene):
         """Drop every item and build them afresh (a different circuit was loaded)."""
         self.clear()
         self.units.clear()
-        self.edges.clear()
+        self.edges = {}
+        self.layer = EdgeLayer(self.edges)
+        self.addItem(self.layer)
         self.sync_structure()
 
     def sync_structure(self) -> None:
@@ -66,12 +71,15 @@ class CircuitScene(QGraphicsScene):
             if item is None or item.connection is not conn or item.source is not src or item.target is not dst:
                 if item is not None:
                     self.removeItem(item)
-                item = ConnectionItem(conn, src, dst)
+                item = ConnectionItem(conn, src, dst, self.layer)
                 self.addItem(item)
             edges[conn.key] = item
         for item in old_edges.values():
             self.removeItem(item)
-        self.units, self.edges = units, edges
+        self.units = units
+        self.edges.clear()
+        self.edges.update(edges)  # the layer holds this same dict
+        edges = self.edges
         for u in units.values():
             u.edges = []
         for key, e in edges.items():
@@ -80,6 +88,9 @@ class CircuitScene(QGraphicsScene):
                 e.target.edges.append(e)
             e.bent = key[0] != key[1] and (key[1], key[0]) in edges
             e.update_geometry()
+        self._order = [edges.get(conn.key) for conn in c.connections]
+        self.layer.live = set()
+        self.layer.invalidate()
         self.refresh_values()
 
     def refresh_values(self) -> None:
@@ -107,11 +118,34 @@ class CircuitScene(QGraphicsScene):
         if scale != self.scale:
             self.scale = scale
             self.weight_scale_changed.emit(scale)
-        edges = self.edges
-        for conn, w in zip(conns, values):
-            item = edges.get(conn.key)
-            if item is not None:
-                item.set_style(style.weight_color(w, scale), style.weight_width(w, scale), not conn.trains)
+        # inlined style.weight_level: this loop runs over every connection at every training snapshot
+        levels = style.WEIGHT_LEVELS
+        per_unit = levels / scale
+        changed = False
+        for item, conn, w in zip(self._order, conns, values):
+            if item is None:
+                continue
+            if w == 0.0:
+                lv = 0
+            else:
+                lv = min(levels, max(1, round(abs(w) * per_unit)))
+                if w < 0:
+                    lv = -lv
+            frozen = not conn.trains
+            if lv != item.level or frozen != item.frozen:
+                item.level, item.frozen = lv, frozen
+                changed = True
+        if changed:
+            self.layer.invalidate()
+
+    def begin_drag(self, names) -> None:
+        """Units ``names`` are about to be dragged: keep their model positions, draw their arrows live."""
+        self.frozen_positions = set(names)
+        self.layer.set_live(e for n in names if n in self.units for e in self.units[n].edges)
+
+    def end_drag(self) -> None:
+        self.frozen_positions = set()
+        self.layer.set_live(())
 
     # ------------------------------------------------------------- selection
     def selected_units(self) -> list[str]:

@@ -12,6 +12,7 @@ from functools import lru_cache
 from PySide6.QtGui import QColor
 
 UNIT_RADIUS = 22.0
+SCENE_EXTENT = 50_000.0  # the scene spans +-this in x and y
 GRID_STEP = 20.0
 
 BACKGROUND = QColor("#f7f7f4")
@@ -64,6 +65,24 @@ def weight_color(weight: float, scale: float) -> QColor:
 def weight_width(weight: float, scale: float) -> float:
     r = min(1.0, abs(weight) / scale) if scale > 0 else 0.0
     return MIN_EDGE_WIDTH + (MAX_EDGE_WIDTH - MIN_EDGE_WIDTH) * r
+
+
+WEIGHT_LEVELS = 40  # magnitude steps per sign: arrows are drawn in batches of one level each
+
+
+def weight_level(weight: float, scale: float) -> int:
+    """``weight`` quantised to -WEIGHT_LEVELS..WEIGHT_LEVELS; only an exact zero gives 0."""
+    if weight == 0.0 or scale <= 0:
+        return 0
+    level = max(1, min(WEIGHT_LEVELS, round(abs(weight) / scale * WEIGHT_LEVELS)))
+    return level if weight > 0 else -level
+
+
+@lru_cache(maxsize=2 * WEIGHT_LEVELS + 1)
+def level_style(level: int) -> tuple[QColor, float]:
+    """Colour and line width of a weight level."""
+    r = level / WEIGHT_LEVELS
+    return weight_color(r, 1.0), weight_width(r, 1.0)
 
 
 def weight_scale(weights) -> float:

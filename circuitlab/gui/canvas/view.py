@@ -14,7 +14,7 @@ import random
 
 from PySide6.QtCore import QEvent, QMimeData, QPointF, QRectF, Qt, Signal
 from PySide6.QtGui import (QAction, QActionGroup, QGuiApplication, QKeySequence, QMouseEvent,
-                           QPainter, QPainterPath, QPen)
+                           QPainter, QPainterPath, QPen, QPixmap)
 from PySide6.QtWidgets import QApplication, QGraphicsPathItem, QGraphicsView, QMenu
 
 from circuitlab.gui.canvas import style
@@ -29,7 +29,17 @@ from circuitlab.model import Connection, ModelError, Unit, UnitSchedule
 FRAGMENT_MIME = "application/x-circuitlab-fragment"
 ZOOM_STEP = 1.15
 MIN_ZOOM, MAX_ZOOM = 0.05, 8.0
+MAX_FIT_ZOOM = 1.5
 NEW_WEIGHT_RANGE = 0.3  # a drawn connection starts with a small random weight in +-this
+
+
+def _shift_as_ctrl(event: QMouseEvent) -> QMouseEvent:
+    """Shift-click toggles selection, as ctrl-click does in Qt's own item handling."""
+    mods = event.modifiers()
+    if not mods & Qt.ShiftModifier:
+        return event
+    return QMouseEvent(event.type(), event.position(), event.globalPosition(), event.button(),
+                       event.buttons(), (mods & ~Qt.ShiftModifier) | Qt.ControlModifier)
 
 
 class CircuitCanvas(QGraphicsView):
@@ -57,7 +67,9 @@ class CircuitCanvas(QGraphicsView):
         self.setVerticalScrollBarPolicy(Qt.ScrollBarAlwaysOff)
         self.tool = "select"
         self.show_legend = True
+        self._legend_cache = None  # ((weight scale, pixel ratio), QPixmap)
         self._connect_from: UnitItem | None = None
+        self._connect_moved = False
         self._connect_line: QGraphicsPathItem | None = None
         self._press_scene = QPointF()
         self._drag_start: dict[str, tuple[float, float]] = {}
@@ -67,9 +79,11 @@ class CircuitCanvas(QGraphicsView):
         self.rng = random.Random()
         self.scene_.selectionChanged.connect(self._emit_selection)
         self.scene_.weight_scale_changed.connect(lambda _s: self.viewport().update())
-        self.scene_.changed.connect(self._grow_scene_rect)
         self.actions_ = self._make_actions()
-        self._grow_scene_rect()
+        # a fixed, very large scene: growing it as units move would make the view jump mid-drag
+        e = style.SCENE_EXTENT
+        self.setSceneRect(QRectF(-e, -e, 2 * e, 2 * e))
+        self.centerOn(0, 0)
 
     # --------------------------------------------------------------- public
     @property
@@ -96,9 +110,15 @@ class CircuitCanvas(QGraphicsView):
             self.resetTransform()
             self.centerOn(0, 0)
             return
-        self.fitInView(rect.adjusted(-40, -40, 40, 40), Qt.KeepAspectRatio)
-        if self.transform().m11() > 1.6:
-            self._set_zoom(1.6)
+        rect = rect.adjusted(-20, -20, 20, 20)
+        vw, vh = self.viewport().width(), self.viewport().height()
+        # keep the circuit clear of the legend in the lower left corner
+        lw = legend_size()[0] + 24 if self.show_legend else 0.0
+        z = min(MAX_FIT_ZOOM, (vw - lw - 16) / rect.width(), (vh - 16) / rect.height())
+        z = max(MIN_ZOOM, z)
+        self.resetTransform()
+        self.scale(z, z)
+        self.centerOn(rect.center() - QPointF(lw / 2 / z, 0))
 
     def zoom(self, factor: float) -> None:
         self._set_zoom(self.transform().m11() * factor)
@@ -268,11 +288,6 @@ class CircuitCanvas(QGraphicsView):
         units, conns = self.selected()
         self.selection_changed.emit(units, conns)
 
-    def _grow_scene_rect(self, *_):
-        rect = self.scene_.itemsBoundingRect().adjusted(-1500, -1500, 1500, 1500)
-        if not self.sceneRect().contains(rect):
-            self.setSceneRect(self.sceneRect().united(rect))
-
     # ---------------------------------------------------------------- mouse
     def mousePressEvent(self, event: QMouseEvent) -> None:
         pos = self.mapToScene(event.position().toPoint())
@@ -294,13 +309,10 @@ class CircuitCanvas(QGraphicsView):
             self._start_connection(unit, pos)
             return
         self._press_scene = pos
-        if extend:
-            # shift-click toggles, like ctrl-click does in Qt's own item handling
-            event = QMouseEvent(event.type(), event.position(), event.globalPosition(), event.button(),
-                                event.buttons(), (mods & ~Qt.ShiftModifier) | Qt.ControlModifier)
-        super().mousePressEvent(event)
+        super().mousePressEvent(_shift_as_ctrl(event))
         self._drag_start = {n: (i.x(), i.y()) for n, i in self.scene_.units.items() if i.isSelected()}
-        self.scene_.frozen_positions = set(self._drag_start)
+        if self._drag_start:
+            self.scene_.begin_drag(self._drag_start)
 
     def mouseMoveEvent(self, event: QMouseEvent) -> None:
         if self._pan_from is not None:
@@ -322,7 +334,7 @@ class CircuitCanvas(QGraphicsView):
         if self._connect_from is not None and event.button() == Qt.LeftButton:
             self._finish_connection(self.mapToScene(event.position().toPoint()))
             return
-        super().mouseReleaseEvent(event)
+        super().mouseReleaseEvent(_shift_as_ctrl(event))
         if event.button() == Qt.LeftButton:
             self._finish_move()
 
@@ -397,6 +409,7 @@ class CircuitCanvas(QGraphicsView):
     # ---------------------------------------------------- drawing connections
     def _start_connection(self, unit: UnitItem, pos: QPointF) -> None:
         self._connect_from = unit
+        self._connect_moved = False  # a press and release without moving is a click, not a self-loop
         self._press_scene = pos
         line = QGraphicsPathItem()
         pen = QPen(style.UNIT_SELECTED, 1.6, Qt.DashLine)
@@ -407,6 +420,8 @@ class CircuitCanvas(QGraphicsView):
         self._update_connection_line(pos)
 
     def _update_connection_line(self, pos: QPointF) -> None:
+        if (pos - self._press_scene).manhattanLength() * self.transform().m11() >= QApplication.startDragDistance():
+            self._connect_moved = True
         path = QPainterPath(self._connect_from.pos())
         path.lineTo(pos)
         self._connect_line.setPath(path)
@@ -418,7 +433,8 @@ class CircuitCanvas(QGraphicsView):
 
     def _finish_connection(self, pos: QPointF) -> None:
         source = self._connect_from
-        moved = (pos - self._press_scene).manhattanLength() >= QApplication.startDragDistance()
+        self._update_connection_line(pos)
+        moved = self._connect_moved
         self._cancel_connection()
         target = self.scene_.unit_at(pos)
         if target is None:
@@ -432,7 +448,8 @@ class CircuitCanvas(QGraphicsView):
 
     def _finish_move(self) -> None:
         start, self._drag_start = self._drag_start, {}
-        self.scene_.frozen_positions = set()
+        if start:
+            self.scene_.end_drag()
         moves = {}
         for name, old in start.items():
             item = self.scene_.units.get(name)
@@ -449,11 +466,21 @@ class CircuitCanvas(QGraphicsView):
     def drawForeground(self, painter: QPainter, rect: QRectF) -> None:
         if not self.show_legend:
             return
+        scale, ratio = self.scene_.scale, self.devicePixelRatioF()
+        if self._legend_cache is None or self._legend_cache[0] != (scale, ratio):
+            w, h = legend_size()
+            pixmap = QPixmap(int(w * ratio) + 2, int(h * ratio) + 2)
+            pixmap.setDevicePixelRatio(ratio)
+            pixmap.fill(Qt.transparent)
+            p = QPainter(pixmap)
+            draw_legend(p, QPointF(0.5, 0.5), scale)
+            p.end()
+            self._legend_cache = ((scale, ratio), pixmap)
+        pixmap = self._legend_cache[1]
         painter.save()
         painter.resetTransform()
-        w, h = legend_size()
-        vp = self.viewport().rect()
-        draw_legend(painter, QPointF(12, vp.height() - h - 12), self.scene_.scale)
+        h = pixmap.height() / ratio
+        painter.drawPixmap(QPointF(12, self.viewport().height() - h - 12), pixmap)
         painter.restore()
 
     def scrollContentsBy(self, dx: int, dy: int) -> None:

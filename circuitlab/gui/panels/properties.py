@@ -11,7 +11,7 @@ import math
 from PySide6.QtCore import Qt
 from PySide6.QtGui import QDoubleValidator
 from PySide6.QtWidgets import (QCheckBox, QComboBox, QFormLayout, QGroupBox, QHBoxLayout, QLabel,
-                               QLineEdit, QSpinBox, QVBoxLayout, QWidget)
+                               QLineEdit, QScrollArea, QSpinBox, QVBoxLayout, QWidget)
 
 from circuitlab.gui.commands import (RenameUnit, SetConnectionFields, SetScheduleFields, SetUnitFields,
                                      TieConnections, UntieConnections)
@@ -32,7 +32,11 @@ MIXED = "mixed"
 def setup(window) -> None:
     panel = PropertiesPanel(window)
     window.properties_panel = panel
-    window.add_panel(panel, "Properties", "properties", Qt.RightDockWidgetArea)
+    scroller = QScrollArea()  # the dock may be shorter than the form: scroll instead of growing the window
+    scroller.setWidget(panel)
+    scroller.setWidgetResizable(True)
+    scroller.setFrameShape(QScrollArea.NoFrame)
+    window.add_panel(scroller, "Properties", "properties", Qt.RightDockWidgetArea)
     window.canvas.unit_activated.connect(panel.focus_name)
 
 

@@ -1,0 +1,95 @@
+"""One item that paints every connection arrow, batched by weight level.
+
+Painting 3,000 arrows one item at a time costs a Python call each; here the
+arrows of one weight level (and frozen state) are joined into one path and
+drawn with one call, so a repaint is a few dozen calls. Arrows attached to
+units being dragged are left out of the batches and drawn one by one, so a
+drag never rebuilds the batches.
+"""
+
+from PySide6.QtCore import QRectF, Qt
+from PySide6.QtGui import QBrush, QPainter, QPainterPath, QPen
+from PySide6.QtWidgets import QGraphicsItem
+
+from circuitlab.gui.canvas import style
+
+
+class EdgeLayer(QGraphicsItem):
+    """Draws the ConnectionItems of ``edges`` (a dict kept by the scene)."""
+
+    def __init__(self, edges: dict):
+        super().__init__()
+        self.edges = edges
+        self.live: set = set()
+        self._batches: list[tuple[int, bool, QPainterPath, QPainterPath]] | None = None
+        # covers the whole scene, so arrows can move anywhere without bounds bookkeeping
+        self._bounds = QRectF(-style.SCENE_EXTENT, -style.SCENE_EXTENT, 2 * style.SCENE_EXTENT,
+                              2 * style.SCENE_EXTENT)
+        self.setZValue(0.0)
+        self.setAcceptedMouseButtons(Qt.NoButton)
+        self.setAcceptHoverEvents(False)
+
+    def invalidate(self) -> None:
+        """Some arrow changed shape or style: rebuild the batches before the next paint."""
+        self._batches = None
+        self.update()
+
+    def edge_changed(self, item) -> None:
+        if item in self.live:
+            self.update()
+        elif self._batches is not None:
+            self.invalidate()
+
+    def set_live(self, items) -> None:
+        """Draw these arrows one by one (their units are being dragged), the rest in batches."""
+        items = set(items)
+        if items != self.live:
+            self.live = items
+            self.invalidate()
+
+    def boundingRect(self) -> QRectF:
+        return self._bounds
+
+    def _build(self) -> list:
+        groups: dict[tuple[int, bool], tuple[QPainterPath, QPainterPath]] = {}
+        live = self.live
+        for e in self.edges.values():
+            if e in live:
+                continue
+            g = groups.get((e.level, e.frozen))
+            if g is None:
+                g = groups[(e.level, e.frozen)] = (QPainterPath(), QPainterPath())
+            g[0].addPath(e.path)
+            g[1].addPolygon(e.arrow)
+        return [(key[0], key[1], *groups[key]) for key in sorted(groups)]
+
+    def paint(self, painter: QPainter, option, widget=None) -> None:
+        if self._batches is None:
+            self._batches = self._build()
+        painter.setRenderHint(QPainter.Antialiasing)
+        selected = [e for e in self.edges.values() if e.isSelected()]
+        if selected:
+            painter.setBrush(Qt.NoBrush)
+            for e in selected:
+                painter.setPen(QPen(style.SELECTED_EDGE, e.width + 4.0, Qt.SolidLine, Qt.RoundCap))
+                painter.drawPath(e.path)
+                painter.drawPolygon(e.arrow)
+        for level, frozen, lines, heads in self._batches:
+            _draw(painter, level, frozen, lines, heads)
+        for e in self.live:
+            heads = QPainterPath()
+            heads.addPolygon(e.arrow)
+            _draw(painter, e.level, e.frozen, e.path, heads)
+
+
+def _draw(painter: QPainter, level: int, frozen: bool, lines: QPainterPath, heads: QPainterPath) -> None:
+    color, width = style.level_style(level)
+    pen = QPen(color, width, Qt.SolidLine, Qt.FlatCap)
+    if frozen:
+        pen.setDashPattern([3.0, 2.0])
+    painter.setPen(pen)
+    painter.setBrush(Qt.NoBrush)
+    painter.drawPath(lines)
+    painter.setPen(Qt.NoPen)
+    painter.setBrush(QBrush(color))
+    painter.drawPath(heads)
