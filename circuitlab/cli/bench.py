@@ -15,6 +15,7 @@ from circuitlab.cli.output import emit_json
 SUITES: dict[str, str] = {
     "engine": "circuitlab.engine.benchmarks:run",
     "grid": "circuitlab.gui.panels.schedule_grid_bench:run",
+    "editor": "circuitlab.gui.benchmarks:run",
 }
 
 

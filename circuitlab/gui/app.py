@@ -57,7 +57,8 @@ def run_editor(args) -> int:
             module, func = entry.split(":")
             getattr(importlib.import_module(module), func)(window, args)
         ok = render_window(window, screenshot, size)
-        window.files.shutdown()
+        window.shutdown(save_layout=False)
+        app.aboutToQuit.emit()  # no event loop ran: give quit-time clean-ups their turn
         if not ok:
             print(f"circuitlab: could not write {screenshot}", file=sys.stderr)
             return 1
