@@ -4,6 +4,7 @@ import csv
 import json
 import subprocess
 import sys
+from pathlib import Path
 
 import networkx as nx
 import pytest
@@ -11,7 +12,10 @@ import pytest
 from circuitlab.cli import main
 from circuitlab.model import (Circuit, Sequence, Unit, UnitSchedule, clamp_mask, load_circuit, save_circuit,
                               target_mask)
-from conftest import EXAMPLES, ROOT
+
+ROOT = Path(__file__).resolve().parents[1]
+EXAMPLES = sorted((ROOT / "example_circuits").glob("*.circuit.json"))
+
 
 
 def run(capsys, *argv) -> tuple[int, str, str]:

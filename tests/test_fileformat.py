@@ -16,12 +16,15 @@ from hypothesis import HealthCheck, given, settings
 from circuitlab.model import Circuit, CircuitFileError, ModelError, Unit, load_circuit, save_circuit
 from circuitlab.model import fileformat
 from circuitlab.model.fileformat import MAX_FILE_BYTES, dumps_circuit, json_schema, loads_circuit
-from conftest import EXAMPLES, ROOT
 from strategies import ANY_FINITE, circuits
+
+ROOT = Path(__file__).resolve().parents[1]
+EXAMPLES = sorted((ROOT / "example_circuits").glob("*.circuit.json"))
 
 SCHEMA_FILE = ROOT / "resources" / "circuit.schema.json"
 sys.path.insert(0, str(ROOT / "tools"))
 import write_schema  # noqa: E402  (tools/ is not a package)
+
 
 
 def small_circuit() -> Circuit:

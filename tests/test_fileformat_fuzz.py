@@ -1,13 +1,15 @@
 """Fuzzing the loader: every malformed document gets a CircuitFileError, never another exception.
 
-Inputs: truncations at every position of real documents, random byte flips,
-wrong types / missing / surplus keys at every field, random JSON, deep
-nesting, huge numbers, NaN literals, bytes that are not UTF-8, and bad
-headers. Hypothesis runs derandomized so CI sees the same inputs every time.
+Inputs: truncations at every position of a seed document (and at sampled
+positions of each example), random byte flips, wrong types / missing /
+surplus keys at every field, random JSON, deep nesting, huge numbers, NaN
+literals, bytes that are not UTF-8, bad headers and bad sequence files.
+Hypothesis runs derandomized so CI sees the same inputs every time.
 """
 
 import json
 import re
+from pathlib import Path
 
 import pytest
 from hypothesis import HealthCheck, given, settings
@@ -17,8 +19,11 @@ from circuitlab.model import (Circuit, CircuitFileError, Sequence, TrainingRecor
                               UnitSchedule, load_circuit)
 from circuitlab.model.errors import join_path
 from circuitlab.model.fileformat import dumps_circuit, loads_circuit
-from conftest import EXAMPLES
 from strategies import ANY_FINITE, circuits
+
+ROOT = Path(__file__).resolve().parents[1]
+EXAMPLES = sorted((ROOT / "example_circuits").glob("*.circuit.json"))
+
 
 FUZZ = settings(max_examples=300, deadline=None, derandomize=True, database=None,
                 suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])

@@ -3,6 +3,7 @@
 import csv
 import io
 import math
+from pathlib import Path
 
 import networkx as nx
 import numpy as np
@@ -12,8 +13,11 @@ from hypothesis import HealthCheck, given, settings
 from circuitlab.cli.graph import CORNER, weight_matrix_csv
 from circuitlab.model import Circuit, ModelError, Unit, load_circuit
 from circuitlab.model.graph import from_networkx, read_graphml, to_networkx, write_graphml
-from conftest import EXAMPLES
 from strategies import ANY_FINITE, circuits
+
+ROOT = Path(__file__).resolve().parents[1]
+EXAMPLES = sorted((ROOT / "example_circuits").glob("*.circuit.json"))
+
 
 GRAPH = settings(max_examples=60, deadline=None, derandomize=True,
                  suppress_health_check=[HealthCheck.too_slow, HealthCheck.function_scoped_fixture])

@@ -3,8 +3,11 @@
 import json
 import subprocess
 import sys
+from pathlib import Path
 
-from conftest import EXAMPLES, ROOT
+ROOT = Path(__file__).resolve().parents[1]
+EXAMPLES = sorted((ROOT / "example_circuits").glob("*.circuit.json"))
+
 
 PROBE = """
 import importlib, json, pkgutil, sys
@@ -15,6 +18,7 @@ for package in (circuitlab.model, circuitlab.engine):
         importlib.import_module(info.name)
         modules.append(info.name)
 from circuitlab.cli import main
+
 code = main(["validate", *sys.argv[1:]])
 qt = sorted(m for m in sys.modules if m.split(".")[0] in ("PySide6", "shiboken6", "pyqtgraph"))
 print(json.dumps({"code": code, "qt": qt, "modules": modules}))
