@@ -26,7 +26,7 @@ from circuitlab.engine import (Activity, Backward, Compiled, EngineError, EpochR
                                Trainer, backward, compile_circuit, contributions, forward)
 from circuitlab.engine.gradcheck import DEFAULT_TOLERANCE, GradientCheck, gradient_check
 from circuitlab.engine.unrolled import unrolled_graph
-from circuitlab.model import Circuit, UnitSchedule, load_circuit, save_circuit
+from circuitlab.model import Circuit, UnitSchedule, clamp_mask, load_circuit, save_circuit
 
 __all__ = ["EngineError", "GradientResult", "RunResult", "TrainingResult", "check_gradients",
            "gradients", "load", "run", "save", "train", "unroll"]
@@ -124,27 +124,52 @@ class RunResult:
         return buffer.getvalue()
 
 
-def run(circuit: Circuit, sequence: str | None = None, steps: int | None = None) -> RunResult:
+def run(circuit: Circuit, sequence: str | None = None, steps: int | None = None,
+        fill: float | None = None) -> RunResult:
     """Run the circuit on its sequences (or only ``sequence``) at its current values.
 
     ``steps`` runs each sequence for that many steps instead of its own
-    length, for example past the training horizon; targets are then ignored,
-    and a unit clamped at a step the data does not cover is an error.
+    length, for example past the training horizon; targets are then ignored.
+    A unit clamped at a step past its data takes the value ``fill`` there
+    (for example 0.0 for "no input"); without ``fill`` that is an error.
     """
     work = circuit
     if steps is not None:
         if steps < 1:
             raise EngineError("steps must be at least 1")
-        work = circuit.copy()
-        for name, sched in list(work.schedule.items()):
-            work.schedule[name] = sched.model_copy(update={"target": "none"})
-        for seq in work.sequences:
-            seq.targets = {}
-            seq.resize(steps)
-        work.schedule = {k: v for k, v in work.schedule.items() if v != UnitSchedule()}
-    comp = compile_circuit(work, None if sequence is None else [sequence])
+        work = _extended(circuit, steps, fill)
+    try:
+        comp = compile_circuit(work, None if sequence is None else [sequence])
+    except EngineError as exc:
+        if steps is not None and fill is None and any("no value" in p for p in exc.problems):
+            raise EngineError(f"{exc}\n(past the data, give clamped units a value with fill=..., "
+                              "on the command line --fill VALUE)", exc.problems) from None
+        raise
     act = forward(comp, comp.parameters_from_circuit())
     return RunResult(comp.unit_names, comp.sequence_names, comp.lengths, act.y.copy(), act.net.copy())
+
+
+def _extended(circuit: Circuit, steps: int, fill: float | None) -> Circuit:
+    """A copy whose sequences run ``steps`` steps, with no targets, clamps past the data = ``fill``."""
+    work = circuit.copy()
+    work.schedule = {name: sched.model_copy(update={"target": "none"})
+                     for name, sched in work.schedule.items()}
+    work.schedule = {k: v for k, v in work.schedule.items() if v != UnitSchedule()}
+    for seq in work.sequences:
+        old = seq.length
+        seq.targets = {}
+        seq.resize(steps)
+        if fill is None:
+            continue
+        for unit in work.units:
+            mask = clamp_mask(unit, work.schedule_for(unit.name), seq)
+            row = seq.clamps.setdefault(unit.name, [None] * seq.steps)
+            for t in range(old + 1, seq.steps):
+                if mask[t] and row[t] is None:
+                    row[t] = float(fill)
+            if all(v is None for v in row):
+                del seq.clamps[unit.name]
+    return work
 
 
 # ---------------------------------------------------------------- gradients

@@ -143,8 +143,10 @@ def test_train_exits_1_and_saves_finite_values_when_training_diverges(tmp_path, 
 
 def test_run_past_the_data_needs_data_for_clamped_units():
     c = constrained_circuit()  # 'x' is clamped at every step
-    with pytest.raises(api.EngineError, match="clamped at steps 6-20.*no value"):
+    with pytest.raises(api.EngineError, match="(?s)clamped at steps 6-20.*no value.*fill="):
         api.run(c, steps=20)
+    filled = api.run(c, steps=20, fill=0.25)
+    assert (filled.y[:, 6:, 0] == 0.25).all() and (filled.y[:, :6, 0] == api.run(c).y[:, :, 0]).all()
     c.set_schedule("x", c.schedule_for("x").model_copy(update={"clamp": "given"}))
     run = api.run(c, steps=20)  # 'given': clamped where data exist, free after
     assert run.y.shape == (4, 21, 3) and np.isfinite(run.y).all()

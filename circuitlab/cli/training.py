@@ -37,6 +37,8 @@ def register(commands) -> None:
     p.add_argument("--sequence", metavar="NAME", help="only this sequence (default: all)")
     p.add_argument("--steps", type=int, metavar="N",
                    help="run each sequence for N steps (for example past the training horizon)")
+    p.add_argument("--fill", type=float, metavar="VALUE",
+                   help="with --steps: the value of clamped units past their data (for example 0)")
     p.add_argument("--csv", metavar="OUT", help="write the CSV here (default: standard output)")
     p.set_defaults(run=run_run)
 
@@ -166,7 +168,7 @@ def run_run(args: argparse.Namespace) -> int:
     if circuit is None:
         return 2
     try:
-        result = api.run(circuit, sequence=args.sequence, steps=args.steps)
+        result = api.run(circuit, sequence=args.sequence, steps=args.steps, fill=args.fill)
     except EngineError as exc:
         error(f"{args.file}: {exc}")
         return 2
