@@ -69,10 +69,14 @@ def _relerr(a, b):
     return float(np.max(np.abs(a - b) / np.maximum(np.maximum(np.abs(a), np.abs(b)), 1e-12), initial=0))
 
 
-@pytest.mark.parametrize("seed", range(50))
+@pytest.mark.parametrize("seed", list(range(50)) + [("large", k) for k in range(10)])
 def test_bptt_equals_autograd_on_random_circuits(seed):
     # Reference: autograd reverse mode on the plain DESIGN loop (source: autograd).
-    circuit = random_circuit(seed)
+    # 50 small circuits, then 10 larger and longer ones.
+    if isinstance(seed, tuple):
+        circuit = random_circuit(1000 + seed[1], max_units=9, max_length=15, max_sequences=4)
+    else:
+        circuit = random_circuit(seed)
     loss = circuit.training.loss
     comp = compile_circuit(circuit)
     p = comp.parameters_from_circuit()

@@ -136,11 +136,11 @@ def test_backward_norms_shrink_geometrically_below_the_bound(sigma):
     assert np.all(norms[:, 0] < norms[:, -1])
 
 
-def test_truncated_bptt_matches_its_definition():
+@pytest.mark.parametrize("k, seed", [(1, 21), (2, 21), (3, 22), (2, 23)])
+def test_truncated_bptt_matches_its_definition(k, seed):
     # Reference: autograd on the plain loop, where each target step tau only sees the last k
     # steps (states at tau-k-1 held constant) -- the truncation documented in engine/backward.py.
-    k = 2
-    c = random_circuit(21, max_length=7, loss="squared")
+    c = random_circuit(seed, max_length=9, loss="squared")
     comp = compile_circuit(c)
     p = comp.parameters_from_circuit()
     _, grads, _ = backward(comp, p, forward(comp, p), loss="squared", truncation=k)
