@@ -4,6 +4,8 @@ The expected behaviour (one undo step per user action, undo restoring the
 exact previous model) is common practice for document editors.
 """
 
+import math
+
 from PySide6.QtCore import QPoint, QPointF, Qt
 from PySide6.QtTest import QTest
 
@@ -108,7 +110,12 @@ def test_draw_connect_edit_then_undo_and_redo_everything(main_window, qtbot):
     mid_a = scene.edges[("u1", "u2")].path.pointAtPercent(0.5)
     mid_b = scene.edges[("u2", "u1")].path.pointAtPercent(0.5)
     assert (mid_a - mid_b).manhattanLength() > 20
-    assert scene.edges[("u3", "u3")].path.boundingRect().top() < doc.circuit.unit("u3").y - 2 * R
+    # the loop sits outside its unit, turned away from the unit's other arrow (to u2)
+    centre3 = scene.edges[("u3", "u3")].path.boundingRect().center() - scene.units["u3"].pos()
+    towards2 = scene.units["u2"].pos() - scene.units["u3"].pos()
+    assert math.hypot(centre3.x(), centre3.y()) > 1.5 * R
+    turn = math.atan2(centre3.y(), centre3.x()) - math.atan2(towards2.y(), towards2.x())
+    assert abs(math.remainder(turn, 2 * math.pi)) > math.radians(60)
 
     # a drag moves the unit in one undo step, its arrows follow
     before = unit_pos(win, "u3")

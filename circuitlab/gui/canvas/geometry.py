@@ -7,8 +7,9 @@ from PySide6.QtGui import QPainterPath, QPolygonF
 
 from circuitlab.gui.canvas.style import UNIT_RADIUS
 
-ARROW_LENGTH = 11.0
-ARROW_HALF_WIDTH = 5.0
+ARROW_LENGTH = 13.0
+ARROW_HALF_WIDTH = 5.5
+UP = -math.pi / 2  # screen y grows downwards
 
 
 def _unit(dx: float, dy: float) -> tuple[float, float]:
@@ -16,14 +17,16 @@ def _unit(dx: float, dy: float) -> tuple[float, float]:
     return dx / d, dy / d
 
 
-def edge_path(p: QPointF, q: QPointF, bent: bool, radius: float = UNIT_RADIUS) -> tuple[QPainterPath, QPolygonF]:
+def edge_path(p: QPointF, q: QPointF, bent: bool, radius: float = UNIT_RADIUS,
+              loop_angle: float = UP) -> tuple[QPainterPath, QPolygonF]:
     """The line and the arrowhead of ``p -> q``.
 
     A connection whose reverse also exists is bent to its own left, so the two
-    arrows of a reciprocal pair never overlap. ``p == q`` draws a loop above the unit.
+    arrows of a reciprocal pair never overlap. ``p == q`` draws a loop leaving
+    the unit towards ``loop_angle`` (radians, screen coordinates).
     """
     if p == q:
-        return _loop(p, radius)
+        return _loop(p, radius, loop_angle)
     dx, dy = _unit(q.x() - p.x(), q.y() - p.y())
     dist = math.hypot(q.x() - p.x(), q.y() - p.y())
     if not bent:
@@ -46,19 +49,39 @@ def edge_path(p: QPointF, q: QPointF, bent: bool, radius: float = UNIT_RADIUS) -
     return path, _arrow(tip, ex, ey)
 
 
-def _loop(p: QPointF, radius: float) -> tuple[QPainterPath, QPolygonF]:
+def _loop(p: QPointF, radius: float, angle: float) -> tuple[QPainterPath, QPolygonF]:
     spread = math.radians(28)
-    reach = radius * 2.9
-    sx, sy = -math.sin(spread), -math.cos(spread)   # leaves up and to the left
-    ex, ey = math.sin(spread), -math.cos(spread)    # returns from up and to the right
-    start = QPointF(p.x() + sx * radius, p.y() + sy * radius)
-    tip = QPointF(p.x() + ex * (radius + 1.5), p.y() + ey * (radius + 1.5))
-    c1 = QPointF(p.x() - radius * 1.5, p.y() - reach)
-    c2 = QPointF(p.x() + radius * 1.5, p.y() - reach)
+    reach = radius * 3.3
+
+    def at(a: float, r: float) -> QPointF:
+        return QPointF(p.x() + math.cos(a) * r, p.y() + math.sin(a) * r)
+
+    start = at(angle - spread, radius)
+    tip = at(angle + spread, radius + 1.5)
+    c1, c2 = at(angle - spread, reach), at(angle + spread, reach)
     dx, dy = _unit(tip.x() - c2.x(), tip.y() - c2.y())
     path = QPainterPath(start)
     path.cubicTo(c1, c2, QPointF(tip.x() - dx * ARROW_LENGTH * 0.7, tip.y() - dy * ARROW_LENGTH * 0.7))
     return path, _arrow(tip, dx, dy)
+
+
+# where a self-connection may go, in order of preference: up, the upper diagonals, the sides, the
+# lower diagonals (never straight down: the unit's name is there)
+LOOP_CANDIDATES = [UP, UP - math.pi / 4, UP + math.pi / 4, math.pi, 0.0, 3 * math.pi / 4, math.pi / 4]
+
+
+def free_angle(occupied: list[float]) -> float:
+    """The first candidate direction at least 60 degrees from every occupied one,
+    else the candidate farthest from them."""
+    occupied = [*occupied, math.pi / 2]  # the name below the unit
+    best, best_gap = UP, -1.0
+    for cand in LOOP_CANDIDATES:
+        gap = min(abs(math.remainder(cand - a, 2 * math.pi)) for a in occupied)
+        if gap >= math.radians(60):
+            return cand
+        if gap > best_gap:
+            best, best_gap = cand, gap
+    return best
 
 
 def _arrow(tip: QPointF, dx: float, dy: float) -> QPolygonF:

@@ -19,7 +19,7 @@ from PySide6.QtGui import (QFont, QFontMetricsF, QPainter, QPainterPath,
 from PySide6.QtWidgets import QGraphicsItem, QStyle
 
 from circuitlab.gui.canvas import style
-from circuitlab.gui.canvas.geometry import edge_path
+from circuitlab.gui.canvas.geometry import edge_path, free_angle
 from circuitlab.model import Circuit, Connection, Unit
 
 R = style.UNIT_RADIUS
@@ -85,13 +85,32 @@ class UnitItem(QGraphicsItem):
         if look != self.look:
             self.look = look
             self.update()
+            for e in self.edges:
+                if e.target is e.source:
+                    e.update_geometry()  # the loop keeps clear of the markers
+
+    def loop_angle(self) -> float:
+        """Direction for this unit's self-connection: away from its other arrows and its markers."""
+        occupied = []
+        p = self.pos()
+        for e in self.edges:
+            other = e.target if e.source is self else e.source
+            if other is not self:
+                occupied.append(math.atan2(other.y() - p.y(), other.x() - p.x()))
+        if self.look.clamp:
+            occupied.append(math.pi)
+        if self.look.target:
+            occupied.append(0.0)
+        if self.look.learned:
+            occupied.append(math.pi / 2)
+        return free_angle(occupied)
 
     def in_rim_band(self, local: QPointF) -> bool:
         return math.hypot(local.x(), local.y()) >= R - RIM_BAND
 
     # ---------------------------------------------------------------- drawing
     def boundingRect(self) -> QRectF:
-        return QRectF(-NAME_WIDTH / 2, -R - 8, NAME_WIDTH, 2 * R + 34)
+        return QRectF(-NAME_WIDTH / 2, -R - 8, NAME_WIDTH, 2 * R + 38)
 
     def shape(self) -> QPainterPath:
         path = QPainterPath()
@@ -118,10 +137,15 @@ class UnitItem(QGraphicsItem):
             draw_target_mark(painter, QPointF(R, 0), look.target == "every")
         if look.learned:
             draw_learned_mark(painter, QPointF(0, R))
+        text = NAME_METRICS.elidedText(look.name, Qt.ElideMiddle, NAME_WIDTH - 8)
+        tw = NAME_METRICS.horizontalAdvance(text)
+        plate = QRectF(-tw / 2 - 4, R + 8, tw + 8, NAME_METRICS.height() + 2)
+        painter.setPen(Qt.NoPen)
+        painter.setBrush(style.NAME_PLATE)  # keeps the name legible where arrows pass beneath it
+        painter.drawRoundedRect(plate, 4, 4)
         painter.setFont(NAME_FONT)
-        painter.setPen(style.UNIT_TEXT)
-        text = NAME_METRICS.elidedText(look.name, Qt.ElideMiddle, NAME_WIDTH)
-        painter.drawText(QRectF(-NAME_WIDTH / 2, R + 7, NAME_WIDTH, 18), Qt.AlignHCenter | Qt.AlignTop, text)
+        painter.setPen(style.UNIT_SELECTED if selected else style.UNIT_TEXT)
+        painter.drawText(plate, Qt.AlignCenter, text)
 
     # ------------------------------------------------------------- behaviour
     def itemChange(self, change, value):
@@ -130,6 +154,11 @@ class UnitItem(QGraphicsItem):
         if change == QGraphicsItem.ItemPositionHasChanged:
             for e in self.edges:
                 e.update_geometry()
+                other = e.target if e.source is self else e.source
+                if other is not self:
+                    for loop in other.edges:
+                        if loop.source is loop.target:
+                            loop.update_geometry()
         return super().itemChange(change, value)
 
     def hoverEnterEvent(self, event) -> None:
@@ -230,7 +259,11 @@ class ConnectionItem(QGraphicsItem):
 
     def update_geometry(self) -> None:
         self.prepareGeometryChange()
-        self.path, self.arrow = edge_path(self.source.pos(), self.target.pos(), self.bent)
+        if self.source is self.target:
+            self.path, self.arrow = edge_path(self.source.pos(), self.source.pos(), False,
+                                              loop_angle=self.source.loop_angle())
+        else:
+            self.path, self.arrow = edge_path(self.source.pos(), self.target.pos(), self.bent)
         self._shape = None
         pad = style.MAX_EDGE_WIDTH + 2
         self._bounds = self.path.boundingRect().united(self.arrow.boundingRect()).adjusted(-pad, -pad, pad, pad)

@@ -166,6 +166,15 @@ class CircuitScene(QGraphicsScene):
         self.blockSignals(False)
         self.selectionChanged.emit()
 
+    def content_rect(self) -> QRectF:
+        """The area the units and arrows cover (the edge layer itself spans the whole scene)."""
+        rect = QRectF()
+        for item in self.units.values():
+            rect = rect.united(item.sceneBoundingRect())
+        for item in self.edges.values():
+            rect = rect.united(item.boundingRect())
+        return rect
+
     def unit_at(self, pos: QPointF) -> UnitItem | None:
         for item in self.items(pos):
             if isinstance(item, UnitItem):

@@ -105,7 +105,7 @@ class CircuitCanvas(QGraphicsView):
         return self.scene_.selected_units(), self.scene_.selected_connections()
 
     def fit_to_view(self) -> None:
-        rect = self.scene_.itemsBoundingRect()
+        rect = self.scene_.content_rect()
         if rect.isEmpty():
             self.resetTransform()
             self.centerOn(0, 0)

@@ -184,7 +184,7 @@ class PropertiesPanel(QWidget):
         self.weight.editingFinished.connect(self._set_weight)
         self.weight_trains = QCheckBox("trains")
         self.weight_trains.clicked.connect(
-            lambda on: self._push(SetConnectionFields(self.document, self.connections, "trains", on)))
+            lambda on: self._push(lambda: SetConnectionFields(self.document, self.connections, "trains", on)))
         row = QHBoxLayout()
         row.addWidget(self.weight, 1)
         row.addWidget(self.weight_trains)
@@ -277,11 +277,12 @@ class PropertiesPanel(QWidget):
             self.name.selectAll()
 
     # ------------------------------------------------------------ editing
-    def _push(self, command) -> bool:
+    def _push(self, make_command) -> bool:
+        """Build and push a command; a refused edit shows its reason and changes nothing."""
         if self._filling:
             return False
         try:
-            self.document.push(command)
+            self.document.push(make_command())
         except ModelError as exc:
             self.problem.setText(str(exc))
             self.refresh()
@@ -293,7 +294,7 @@ class PropertiesPanel(QWidget):
         if self._filling or len(self.units) != 1:
             return
         old, new = self.units[0], self.name.text().strip()
-        if new and new != old and self._push(RenameUnit(self.document, old, new)):
+        if new and new != old and self._push(lambda: RenameUnit(self.document, old, new)):
             self.units = [new]
             self.window.canvas.circuit_scene.select([new])
         elif not new:
@@ -302,12 +303,12 @@ class PropertiesPanel(QWidget):
     def _set_unit(self, field: str, value) -> None:
         c = self.document.circuit
         if self.units and any(getattr(c.unit(n), field) != value for n in self.units):
-            self._push(SetUnitFields(self.document, self.units, field, value))
+            self._push(lambda: SetUnitFields(self.document, self.units, field, value))
 
     def _set_schedule(self, field: str, value) -> None:
         c = self.document.circuit
         if self.units and any(getattr(c.schedule_for(n), field) != value for n in self.units):
-            self._push(SetScheduleFields(self.document, self.units, field, value))
+            self._push(lambda: SetScheduleFields(self.document, self.units, field, value))
 
     def _set_number(self, edit: NumberField, field: str, required: bool) -> None:
         if self._filling or not self.units:
@@ -331,7 +332,7 @@ class PropertiesPanel(QWidget):
             return
         c = self.document.circuit
         if value is not None and any(c.connection(*k).weight != value for k in self.connections):
-            self._push(SetConnectionFields(self.document, self.connections, "weight", value))
+            self._push(lambda: SetConnectionFields(self.document, self.connections, "weight", value))
 
     def _set_steps(self, edit: QLineEdit, field: str) -> None:
         if self._filling or not self.units:
@@ -357,10 +358,10 @@ class PropertiesPanel(QWidget):
         c = self.document.circuit
         current = {c.connection(*k).tie for k in self.connections}
         if group and current != {group}:
-            self._push(TieConnections(self.document, self.connections, group[:64]))
+            self._push(lambda: TieConnections(self.document, self.connections, group[:64]))
         elif not group and len(current) == 1 and current != {None}:
             # blank over one group unties; blank over mixed groups leaves them alone
-            self._push(UntieConnections(self.document, self.connections))
+            self._push(lambda: UntieConnections(self.document, self.connections))
 
 
 def _show_combo(box: QComboBox, values: list) -> None:
