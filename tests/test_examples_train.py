@@ -9,13 +9,15 @@ import importlib.util
 import json
 import subprocess
 import sys
+from pathlib import Path
 
 import pytest
 
 from circuitlab.cli import main
 from circuitlab.model import load_circuit
 
-from conftest import EXAMPLES, ROOT
+ROOT = Path(__file__).resolve().parent.parent
+EXAMPLES = sorted((ROOT / "example_circuits").glob("*.circuit.json"))
 
 
 def load_make_examples():

@@ -13,14 +13,13 @@ import contextlib
 import io
 import re
 import shlex
+from pathlib import Path
 
 import pytest
 
 from circuitlab.cli import build_editor_parser, build_parser
 
-from conftest import ROOT
-
-README = (ROOT / "README.md").read_text(encoding="utf-8")
+README = (Path(__file__).resolve().parent.parent / "README.md").read_text(encoding="utf-8")
 FENCE = re.compile(r"^```(\w*)\n(.*?)^```", re.S | re.M)
 INLINE = re.compile(r"`([^`\n]+)`")
 SHELLS = ("bash", "sh", "shell", "console", "")

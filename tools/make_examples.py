@@ -68,8 +68,8 @@ def pattern_cleaner() -> Circuit:
         name="pattern cleaner",
         description="Eight indicator lamps show one of three codes, but some readings are corrupted. "
         "The whole lamp state is given at step 0 and the circuit must settle on the nearest clean "
-        "code within two steps and hold it for the last four. Try: train, then look at the "
-        "held-out sequences, with two wrong lamps or dim, noisy readings never seen in training.",
+        "code within two steps and hold it for the last four; held-out starts have two wrong lamps "
+        "or dim, noisy readings. Try: train, then show a held-out start and watch it settle.",
         units=units,
         schedule={n: UnitSchedule(clamp="initial", target="last", target_last=4) for n in names},
         training=TrainingSettings(optimizer="adam", learning_rate=0.05, epochs=1500,
@@ -110,7 +110,7 @@ def two_step_echo() -> Circuit:
         name="two-step echo",
         description="A sensor line carries a random on/off stream; the 'echo' unit must repeat what "
         "the sensor read two steps earlier, so the bit has to wait one step in 'relay'. "
-        "Try: train, then select relay -> echo and watch its per-step contributions.",
+        "Try: train, then select relay -> echo to see its per-step contributions.",
         units=units,
         schedule={"sensor": UnitSchedule(clamp="every"), "echo": UnitSchedule(target="given")},
         training=TrainingSettings(optimizer="adam", learning_rate=0.1, epochs=800, loss="cross_entropy",
@@ -137,8 +137,8 @@ def flip_detector() -> Circuit:
         name="flip detector",
         description="A binary line is clamped at every step; 'flipped' must report whether the line "
         "changed between the two readings before last (an exclusive-or across time), so 'previous' "
-        "has to keep the older reading. Try: train and compare the hidden units' activity for a "
-        "flip and for a steady line.",
+        "has to keep the older reading. Try: train, then compare the hidden units at a flip and on "
+        "a steady line.",
         units=units,
         schedule={"line": UnitSchedule(clamp="every"), "flipped": UnitSchedule(target="given")},
         training=TrainingSettings(optimizer="adam", learning_rate=0.03, epochs=1500,
@@ -166,8 +166,7 @@ def beat_keeper() -> Circuit:
         name="beat keeper",
         description="With no input at all, the circuit must drum a steady strong-weak-weak beat on "
         "'beat' (0.9, 0.2, 0.2, ...); the three timer units learn their own starting states. "
-        "Try: train, then check the held-out sequence, twice as long as the training one: does "
-        "the beat keep time?",
+        "Try: train, then show the held-out 24-step sequence: does it keep time?",
         units=units,
         schedule={"beat": UnitSchedule(target="every")},
         training=TrainingSettings(optimizer="adam", learning_rate=0.05, epochs=1500, loss="squared",
@@ -191,8 +190,7 @@ def door_latch() -> Circuit:
         name="door latch",
         description="Brief pulses on 'open_pulse' and 'close_pulse' must switch 'latched_open' on and "
         "off, and between pulses it must hold its state with nothing but its own feedback. "
-        "Try: train, then watch the held-out 40-step sequence: the latch must hold far longer "
-        "than in training.",
+        "Try: press Train and watch the latch learn to hold, then show the 40-step day9.",
         units=units,
         schedule={"open_pulse": UnitSchedule(clamp="every"), "close_pulse": UnitSchedule(clamp="every"),
                   "latched_open": UnitSchedule(target="every")},
@@ -227,8 +225,8 @@ def mirror_steering() -> Circuit:
         name="mirror steering",
         description="Two light sensors see noisy brightness for six steps; by the last two steps the "
         "steering unit on the brighter side must be on and the other off. Mirror-image connections "
-        "are tied, so the circuit is left-right symmetric by construction. Try: train and see that "
-        "each tied pair keeps one shared weight.",
+        "are tied, so the circuit is left-right symmetric by construction. Try: train and check "
+        "that each tied pair keeps one shared weight.",
         units=units,
         schedule={"left_eye": UnitSchedule(clamp="every"), "right_eye": UnitSchedule(clamp="every"),
                   "steer_left": UnitSchedule(target="last", target_last=2),
@@ -269,8 +267,8 @@ def onset_detector() -> Circuit:
         name="onset detector",
         description="A stimulus switches on and stays on for a while; the excitatory unit 'excite' "
         "must fire once, one step after each onset, and then fall silent while the stimulus lasts. "
-        "Its weights may only excite and those of 'inhibit' only inhibit. Try: train, then look at "
-        "how 'inhibit' arrives one step late and cuts the response short.",
+        "Its weights may only excite and those of 'inhibit' only inhibit. Try: train, then watch "
+        "'inhibit' arrive one step late and cut the response short.",
         units=units,
         schedule={"stimulus": UnitSchedule(clamp="every"), "excite": UnitSchedule(target="every")},
         training=TrainingSettings(optimizer="adam", learning_rate=0.2, epochs=1500, loss="cross_entropy",
@@ -293,12 +291,48 @@ def onset_detector() -> Circuit:
     return seeded_start(c, 6)
 
 
+def heading_holder() -> Circuit:
+    """Multi-state memory: four cue lines clamped at every step, four heading units targeted at every step."""
+    directions = ["north", "east", "south", "west"]
+    cues, headings = [f"cue_{d}" for d in directions], [f"heading_{d}" for d in directions]
+    units = [*column(cues, 0.0), *column(headings, 1.4 * SPACING, initial_value=0.0)]
+    c = Circuit(
+        name="heading holder",
+        description="A brief cue on one of four lines names a new direction of travel; exactly one "
+        "heading unit, the last cued one, must stay on until the next cue (before the first cue, "
+        "none is on). Try: train, then show the 40-step held-out trip and watch the heading hold.",
+        units=units,
+        schedule={**{n: UnitSchedule(clamp="every") for n in cues},
+                  **{n: UnitSchedule(target="every") for n in headings}},
+        training=TrainingSettings(optimizer="adam", learning_rate=0.1, epochs=1500, loss="cross_entropy",
+                                  seed=8, target_loss=0.01))
+    for h in headings:
+        for source in cues + headings:
+            c.connect(source, h)
+    rng = np.random.default_rng(8)
+    for i, (length, held_out) in enumerate([(20, False)] * 10 + [(40, True)]):
+        cue_rows = {n: [0.0] * (length + 1) for n in cues}
+        for t in range(length):
+            if rng.random() < 0.2:
+                cue_rows[cues[int(rng.integers(0, 4))]][t] = 1.0
+        current, rows = None, {n: [None] for n in headings}
+        for t in range(1, length + 1):
+            cued = [k for k, n in enumerate(cues) if cue_rows[n][t - 1]]
+            current = cued[0] if cued else current
+            for k, n in enumerate(headings):
+                rows[n].append(float(current == k))
+        c.add_sequence(Sequence(name=f"trip{i + 1}", length=length, held_out=held_out,
+                                clamps=cue_rows, targets=rows))
+    return seeded_start(c, 8)
+
+
 EXAMPLES = {
     "pattern_cleaner": pattern_cleaner,
     "two_step_echo": two_step_echo,
     "flip_detector": flip_detector,
     "beat_keeper": beat_keeper,
     "set_reset_latch": door_latch,
+    "heading_holder": heading_holder,
     "mirror_steering": mirror_steering,
     "onset_detector": onset_detector,
 }

@@ -52,6 +52,7 @@ class ExampleBanner(QFrame):
                            "border-radius: 4px; } QLabel { color: #3d3414; }")
         self.label = QLabel(self)
         self.label.setTextFormat(Qt.PlainText)
+        self.label.setWordWrap(True)  # one line on a normal canvas, never clipped on a narrow one
         self.close_button = QToolButton(self)
         self.close_button.setText("✕")
         self.close_button.setAutoRaise(True)
