@@ -152,6 +152,20 @@ def test_target_loss_stops_training():
     assert tr.stopped_because.startswith("reached the target loss")
     assert tr.history[-1].loss <= first * 0.95 < tr.history[-2].loss
     assert tr.epochs_done < 1000
+    # Training stops at the parameters whose loss reached the target.
+    assert tr.loss() == tr.history[-1].loss
+    np.testing.assert_array_equal(tr.parameters.W, tr.history[-1].parameters.W)
+
+
+def test_target_loss_with_mini_batches_is_checked_after_the_epoch():
+    c = constrained_circuit()
+    c.training.batch_size = 1
+    c.training.epochs = 1000
+    tr = Trainer(c)
+    tr.settings.target_loss = tr.loss() * 0.95
+    tr.run()
+    assert tr.stopped_because.startswith("reached the target loss")
+    assert tr.loss() <= tr.settings.target_loss
 
 
 def test_reinitialise_respects_ties_frozen_and_signs():

@@ -187,12 +187,29 @@ class Trainer:
             decay_penalty=p.penalty)
         self.history.append(rec)
         if not self.done:
-            if s.target_loss is not None and rec.loss <= s.target_loss:
-                self._stop(f"reached the target loss {s.target_loss:g} (loss {rec.loss:.6g}) "
+            if s.target_loss is not None and self._reached_target(p, rec):
+                self._stop(f"reached the target loss {s.target_loss:g} (loss {self.loss():.6g}) "
                            f"after {p.number} epochs")
             elif p.number >= self.max_epochs:
                 self._stop(f"ran the set number of epochs ({self.max_epochs})")
         return rec
+
+    def _reached_target(self, p: "_Epoch", rec: EpochRecord) -> bool:
+        """Is the training loss at the parameters training would stop with at most target_loss?
+
+        With one batch, rec.loss was measured at the parameters the epoch
+        started from: if it reached the target, those parameters are kept (the
+        epoch's update is dropped), so the final loss is the one that reached
+        it. With mini-batches the loss after the epoch is measured.
+        """
+        target = self.settings.target_loss
+        if len(p.batches) > 1:
+            return self.loss() <= target
+        if rec.loss > target:
+            return False
+        self._theta = self._good_theta.copy()
+        rec.parameters = self.parameters
+        return True
 
     @property
     def batches_per_epoch(self) -> int:
