@@ -65,6 +65,7 @@ class ActivityView(QWidget):
         layout.addWidget(self.graphics, 1)
 
         self.unit_names: list[str] = []
+        self._drawn_stack = None
         self._stacks: dict[str, np.ndarray] = {}
         self._target_mask = np.zeros((0, 0), bool)
         self._target_values = np.zeros((0, 0))
@@ -126,12 +127,14 @@ class ActivityView(QWidget):
         # ImageItem is (row, col) = (unit, step) in row-major order: transpose the (step, unit) stack
         signed = self.stack != "y"
         levels = style.signed_levels(arr) if signed else style.state_levels(arr)
-        self.colorbar.setColorMap(style.colormap(style.SIGNED_MAP if signed else style.STATE_MAP))
+        if self._drawn_stack != self.stack:  # the colour map and label only change with the stack
+            self._drawn_stack = self.stack
+            self.colorbar.setColorMap(style.colormap(style.SIGNED_MAP if signed else style.STATE_MAP))
+            self.colorbar.axis.setLabel(dict(STACKS)[self.stack], color=style.FOREGROUND)
         self.image.setImage(np.nan_to_num(arr.T, nan=0.0, posinf=levels[1], neginf=levels[0]),
                             autoLevels=False)
         self.image.setRect(-0.5, -0.5, arr.shape[0], arr.shape[1])
         self.colorbar.setLevels(levels)
-        self.colorbar.axis.setLabel(dict(STACKS)[self.stack], color=style.FOREGROUND)
         steps, units = np.nonzero(self._target_mask)
         if len(steps):
             cmap = style.colormap(style.STATE_MAP)

@@ -15,7 +15,9 @@ change of values or settings is sent to the trainer and applies from the
 next epoch.
 """
 
-from PySide6.QtCore import QObject, QTimer, Signal
+import time
+
+from PySide6.QtCore import QCoreApplication, QEvent, QObject, QTimer, Signal
 
 from circuitlab.engine import EngineError, Trainer
 from circuitlab.gui.document import Document
@@ -209,6 +211,18 @@ class TrainingController(QObject):
         snap, self._pending = self._pending, None
         if snap is None:
             return
+        started = time.perf_counter()
+        try:
+            self._show(snap)
+        finally:
+            if self.worker is not None:
+                # paint now (scene updates are queued calls that post the repaint), then let the
+                # worker go on: drawing and training never contend for the interpreter lock
+                for _ in range(2):
+                    QCoreApplication.sendPostedEvents()
+                self.worker.acknowledge(time.perf_counter() - started)
+
+    def _show(self, snap: Snapshot) -> None:
         records, self._pending_records = tuple(self._pending_records), []
         if self.epoch_offset:
             records = tuple(_shifted(r, self.epoch_offset) for r in records)

@@ -1,9 +1,17 @@
-"""Export of the training views: the picture (PNG, SVG via pyqtgraph's exporters) and the data (CSV)."""
+"""Export of the training views: the picture (PNG via pyqtgraph's exporter, SVG) and the data (CSV).
+
+SVG is drawn with Qt's own ``QSvgGenerator`` from the item's part of the
+scene: pyqtgraph 0.14's SVG exporter fails to parse the path data that Qt
+6.11 writes ("not enough values to unpack"), for every plot.
+"""
 
 import csv
 from pathlib import Path
 
 import pyqtgraph.exporters as exporters
+from PySide6.QtCore import QRectF, QSize
+from PySide6.QtGui import QPainter
+from PySide6.QtSvg import QSvgGenerator
 from PySide6.QtWidgets import QFileDialog, QMenu, QMessageBox, QToolButton
 
 
@@ -16,7 +24,18 @@ def export_png(item, path: str | Path, width: int | None = None) -> None:
 
 
 def export_svg(item, path: str | Path) -> None:
-    exporters.SVGExporter(item).export(str(path))
+    """Render a pyqtgraph item's region of its scene as vector graphics."""
+    source = item.sceneBoundingRect()
+    generator = QSvgGenerator()
+    generator.setFileName(str(path))
+    generator.setSize(QSize(int(source.width()), int(source.height())))
+    generator.setViewBox(QRectF(0, 0, source.width(), source.height()))
+    generator.setTitle("circuitlab plot")
+    painter = QPainter(generator)
+    try:
+        item.scene().render(painter, QRectF(0, 0, source.width(), source.height()), source)
+    finally:
+        painter.end()
 
 
 def write_csv(path: str | Path, header: list[str], rows: list[list]) -> None:

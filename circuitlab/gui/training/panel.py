@@ -1,12 +1,9 @@
 """The training panel (buttons, sequence choice, messages, settings) and the hub that feeds the views.
 
-``TrainingViews`` turns each controller update into view updates. The heavy
-views (unrolled network, activity stack) get a time budget: after a redraw
-that took d seconds the next one waits at least 3 d, so drawing never takes
-more than about a quarter of the GUI thread, whatever the snapshot rate.
+``TrainingViews`` turns each controller update into view updates. How often
+that happens is the worker's business: it waits for each snapshot to be
+drawn and spaces them so drawing takes at most a quarter of the time.
 """
-
-import time
 
 import numpy as np
 from PySide6.QtCore import QObject, Qt
@@ -22,8 +19,6 @@ from circuitlab.gui.training.export import export_button
 from circuitlab.gui.training.settings_panel import SettingsPanel
 from circuitlab.gui.training.unrolled_view import UnrolledView
 from circuitlab.gui.training.worker import Snapshot
-
-HEAVY_BUDGET = 3.0  # wait this many times the last heavy redraw before the next one
 
 
 def make_actions(controller: TrainingController, parent) -> dict[str, QAction]:
@@ -157,8 +152,6 @@ class TrainingViews(QObject):
         self.select_on_canvas = select_on_canvas or (lambda connection: None)
         self.updates = 0               # controller updates received (for tests and the bench)
         self._structure_key = None
-        self._next_heavy = 0.0
-        self._deferred = None
         self._last_loss: float | None = None
         controller.updated.connect(self.update)
         controller.state_changed.connect(self._state_changed)
@@ -176,16 +169,10 @@ class TrainingViews(QObject):
         total = c.epoch_offset + (c.epoch_limit or c.document.circuit.training.epochs)
         self.status.show_state(c.run_epochs, total, self._last_loss, snap.epochs_per_second, snap.running)
         self.panel.set_sequences(snap.sequence_names, snap.inspection.sequence_name if snap.inspection else None)
-        now = time.perf_counter()
-        if snap.running and now < self._next_heavy:
-            self._deferred = snap
-            return
         self.draw(snap)
-        self._next_heavy = time.perf_counter() + HEAVY_BUDGET * (time.perf_counter() - now)
 
     def draw(self, snap: Snapshot) -> None:
         """Redraw the unrolled network, the activity stack and the contributions from ``snap``."""
-        self._deferred = None
         insp = snap.inspection
         if insp is None:
             return
@@ -202,11 +189,6 @@ class TrainingViews(QObject):
         self.activity.set_data(insp.unit_names, insp.y, insp.e, insp.delta, insp.target_mask,
                                insp.target_values)
         self._show_contributions(insp)
-
-    def flush(self) -> None:
-        """Draw a snapshot that was held back by the time budget."""
-        if self._deferred is not None:
-            self.draw(self._deferred)
 
     def select_connection(self, source: str | None, target: str | None = None) -> None:
         """Highlight every copy of a connection and show its contributions."""
@@ -235,8 +217,6 @@ class TrainingViews(QObject):
 
     def _state_changed(self, state: str) -> None:
         if state != RUNNING:
-            self.flush()
-        if state in (READY,):
             self.status.rate.setText("")
 
 

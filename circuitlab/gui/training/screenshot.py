@@ -42,7 +42,6 @@ def train_epochs(training, epochs: int, timeout: float = 600.0) -> bool:
             QApplication.processEvents()
             time.sleep(0.005)
         QApplication.processEvents()
-        training.views.flush()
         return controller.state != RUNNING
     finally:
         controller.epoch_limit = None

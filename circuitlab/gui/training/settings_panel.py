@@ -5,14 +5,17 @@ is an undoable command on the document. While training runs the controller
 passes the new settings to the trainer, which uses them from the next epoch.
 """
 
+from pydantic import ValidationError
 from PySide6.QtGui import QUndoCommand
 from PySide6.QtWidgets import (QAbstractSpinBox, QCheckBox, QComboBox, QDoubleSpinBox, QFormLayout,
-                               QHBoxLayout, QSpinBox, QWidget)
+                               QHBoxLayout, QLabel, QSpinBox, QWidget)
 
 from circuitlab.gui.document import SETTINGS, Document
 from circuitlab.model import TrainingSettings
 
 _MERGE_ID = 0x5E77  # successive edits of the same field merge into one undo step
+DEFAULT_CLIP = 1.0        # gradient-norm limit offered when clipping is switched on
+DEFAULT_TRUNCATION = 20   # steps offered when truncation is switched on
 
 
 class ChangeSettings(QUndoCommand):
@@ -84,7 +87,7 @@ class SettingsPanel(QWidget):
         self.loss.addItem("Cross-entropy (logistic targets)", "cross_entropy")
         self.clip_on = QCheckBox()
         self.clip_on.setToolTip("Rescale the gradient when its norm exceeds this value")
-        self.clip_norm = _double(1e-6, 1e6, 4, "Largest gradient norm allowed")
+        self.clip_norm = _double(1e-4, 1e6, 4, "Largest gradient norm allowed")
         self.weight_decay = _double(0.0, 10.0, 6, "L2 penalty on the weights, added to each update")
         self.truncate_on = QCheckBox()
         self.truncate_on.setToolTip("Backpropagate at most this many steps (an approximation of the gradient)")
@@ -103,6 +106,11 @@ class SettingsPanel(QWidget):
         form.addRow("Weight decay", self.weight_decay)
         form.addRow("Truncate BPTT", _pair(self.truncate_on, self.truncation))
         form.addRow("Seed", self.seed)
+        self.problem = QLabel()
+        self.problem.setWordWrap(True)
+        self.problem.setStyleSheet("color: #c4161c;")
+        self.problem.hide()
+        form.addRow(self.problem)
 
         for box, field in ((self.learning_rate, "learning_rate"), (self.momentum, "momentum"),
                            (self.epochs, "epochs"), (self.batch_size, "batch_size"),
@@ -131,13 +139,12 @@ class SettingsPanel(QWidget):
             self.loss.setCurrentIndex(self.loss.findData(s.loss))
             self.clip_on.setChecked(s.clip_norm is not None)
             self.clip_norm.setEnabled(s.clip_norm is not None)
-            if s.clip_norm is not None:
-                self.clip_norm.setValue(s.clip_norm)
+            # when off, the box offers the value that switching it on would use
+            self.clip_norm.setValue(s.clip_norm if s.clip_norm is not None else DEFAULT_CLIP)
             self.weight_decay.setValue(s.weight_decay)
             self.truncate_on.setChecked(s.truncation is not None)
             self.truncation.setEnabled(s.truncation is not None)
-            if s.truncation is not None:
-                self.truncation.setValue(s.truncation)
+            self.truncation.setValue(s.truncation if s.truncation is not None else DEFAULT_TRUNCATION)
             self.seed.setValue(s.seed)
         finally:
             self._loading = False
@@ -161,7 +168,15 @@ class SettingsPanel(QWidget):
     def _edited(self, field: str) -> None:
         if self._loading:
             return
-        new = TrainingSettings.model_validate(self.settings().model_dump())
+        try:
+            new = TrainingSettings.model_validate(self.settings().model_dump())
+        except ValidationError as exc:
+            err = exc.errors()[0]
+            self.problem.setText(f"{field.replace('_', ' ')}: {err['msg']}; the setting was not changed.")
+            self.problem.show()
+            self.load()
+            return
+        self.problem.hide()
         if new != self.document.circuit.training:
             self.document.push(ChangeSettings(self.document, new, field))
 

@@ -62,7 +62,7 @@ def plot_widget(**kwargs) -> pg.PlotWidget:
 
 
 def style_plot(plot: pg.PlotItem) -> None:
-    plot.showGrid(x=True, y=True, alpha=GRID_ALPHA)
+    plot.showGrid(x=False, y=False)
     for name in ("left", "bottom", "right", "top"):
         axis = plot.getAxis(name)
         axis.setPen(pg.mkPen(FOREGROUND))

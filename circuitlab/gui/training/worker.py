@@ -77,7 +77,8 @@ class TrainingWorker(QThread):
         self._commands: deque = deque()
         self._running = False
         self._steps = 0
-        self._stop = False
+        self._acked = True
+        self._max_rate = max_rate
         self.trainer: Trainer | None = None
 
     # ------------------------------------------------------- GUI-side commands
@@ -110,6 +111,18 @@ class TrainingWorker(QThread):
 
     def request_snapshot(self) -> None:
         self._send("snapshot")
+
+    def acknowledge(self, cost: float) -> None:
+        """The GUI has drawn the last snapshot, which took it ``cost`` seconds.
+
+        The worker waits for this before training on, so drawing never competes
+        with training for the interpreter lock (the window stays responsive), and
+        it spaces snapshots so drawing takes at most a quarter of the time.
+        """
+        with self._lock:
+            self._acked = True
+            self._interval = max(1.0 / self._max_rate, 3.0 * cost)
+            self._lock.notify()
 
     # ------------------------------------------------------------ the thread
     def run(self) -> None:
@@ -185,7 +198,9 @@ class TrainingWorker(QThread):
                 now = time.perf_counter()
                 if (stepping and not self._steps) or now - last_emit >= self._interval:
                     self._emit()
-                    last_emit = now
+                    with self._lock:  # let the GUI draw it undisturbed (bounded, never a deadlock)
+                        self._lock.wait_for(lambda: self._acked or self._commands, timeout=0.5)
+                    last_emit = time.perf_counter()
             elif want_snapshot:
                 self._emit()
                 last_emit = time.perf_counter()
@@ -229,6 +244,8 @@ class TrainingWorker(QThread):
             self._rate_mark = (now, epoch)
         records, self._pending = tuple(self._pending), []
         inspection = self._inspect() if np.isfinite(p.W).all() else None
+        with self._lock:
+            self._acked = False
         self.snapshot_ready.emit(Snapshot(
             epoch=epoch, unit_names=self._names, W=p.W.copy(), bias=p.bias.copy(), init=p.init.copy(),
             records=records, inspection=inspection, epochs_per_second=self._rate,
@@ -239,13 +256,13 @@ class TrainingWorker(QThread):
         if self._sequence is None:
             return None
         settings = self._circuit.training
-        compiled, act, back = self.trainer.inspect(self._sequence)
-        k = self._steps_of(compiled)
-        params = self.trainer.parameters
-        with np.errstate(all="ignore"):
+        with np.errstate(all="ignore"):  # near divergence the views may show huge values; no warnings
+            compiled, act, back = self.trainer.inspect(self._sequence)
+            params = self.trainer.parameters
             tact = forward(self._train, params)
             _, grads, tback = backward(self._train, params, tact, loss=settings.loss,
                                        truncation=settings.truncation)
+        k = self._steps_of(compiled)
         y, d = tact.y_tm, tback.delta_tm
         contrib = np.zeros((len(self._src), y.shape[0]))
         if y.shape[0] > 1 and len(self._src):
