@@ -33,7 +33,12 @@ class Document(QObject):
         self._circuit = circuit if circuit is not None else Circuit()
         self._path = path
         self.undo_stack = QUndoStack(self)
-        self.undo_stack.cleanChanged.connect(lambda _clean: self.file_changed.emit())
+        # a bound method, not a lambda: Qt drops the connection when the document is deleted
+        # (a lambda outlives it and fires on the half-destroyed document as its stack clears)
+        self.undo_stack.cleanChanged.connect(self._clean_changed)
+
+    def _clean_changed(self, _clean: bool) -> None:
+        self.file_changed.emit()
 
     @property
     def circuit(self) -> Circuit:
