@@ -144,8 +144,7 @@ class Trainer:
 
     def _begin_epoch(self) -> "_Epoch":
         number = self.epochs_done + 1
-        with np.errstate(over="ignore", invalid="ignore"):
-            held = self._held_out_loss()
+        held = self._held_out_loss()
         return _Epoch(number, learning_rate(self.settings, number), held, self._batches(),
                       np.zeros(self._train_set.steps + 1))
 
@@ -247,13 +246,15 @@ class Trainer:
     def loss(self) -> float:
         """The training loss at the current parameters."""
         params = self.parameters
-        return loss_value(self._train_set, forward(self._train_set, params), self.settings.loss)
+        with np.errstate(over="ignore", invalid="ignore"):  # an overflow shows as an infinite loss
+            return loss_value(self._train_set, forward(self._train_set, params), self.settings.loss)
 
     def _held_out_loss(self) -> float | None:
         if self._held_set is None:
             return None
         params = self.parameters
-        return loss_value(self._held_set, forward(self._held_set, params), self.settings.loss)
+        with np.errstate(over="ignore", invalid="ignore"):
+            return loss_value(self._held_set, forward(self._held_set, params), self.settings.loss)
 
     def held_out_loss(self) -> float | None:
         """The held-out loss at the current parameters (None without held-out sequences)."""
@@ -270,9 +271,10 @@ class Trainer:
         if sequence is not None:
             comp = comp.subset([comp.sequence_index(sequence)])
         params = self.parameters
-        act = forward(comp, params)
-        _, _, back = backward(comp, params, act, loss=self.settings.loss,
-                              truncation=self.settings.truncation)
+        with np.errstate(over="ignore", invalid="ignore"):  # the views show inf/NaN as they are
+            act = forward(comp, params)
+            _, _, back = backward(comp, params, act, loss=self.settings.loss,
+                                  truncation=self.settings.truncation)
         return comp, act, back
 
     # --------------------------------------------------- circuit values
@@ -289,8 +291,7 @@ class Trainer:
         if missing:
             raise EngineError("the trained values cannot be stored: the circuit no longer has "
                               + ", ".join(missing[:5]) + (" ..." if len(missing) > 5 else ""))
-        with np.errstate(over="ignore", invalid="ignore"):
-            loss, held = self.loss(), self.held_out_loss()
+        loss, held = self.loss(), self.held_out_loss()
         if not np.isfinite(loss):
             raise EngineError("the trained values cannot be stored: the loss is not finite at them")
         for (i, j), (a, b) in zip(comp.connections, pairs):
