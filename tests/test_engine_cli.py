@@ -11,7 +11,7 @@ from circuitlab import api
 from circuitlab.cli import main
 from circuitlab.model import load_circuit, save_circuit
 from test_engine_learning import latch
-from test_engine_training import constrained_circuit
+from test_engine_training import constrained_circuit, diverging_circuit
 
 
 @pytest.fixture
@@ -125,14 +125,7 @@ def test_api_gradients_contributions_and_unroll():
 
 
 def test_train_exits_1_and_saves_finite_values_when_training_diverges(tmp_path, capsys):
-    from circuitlab.model import Circuit, Sequence, Unit, UnitSchedule
-    c = Circuit()
-    c.add_unit(Unit(name="a", activation="linear", initial_value=1.0))
-    c.connect("a", "a", 1.5)
-    c.set_schedule("a", UnitSchedule(target="final"))
-    c.add_sequence(Sequence(name="s", length=50, targets={"a": [None] * 50 + [1.0]}))
-    c.training.optimizer = "sgd"
-    c.training.learning_rate = 1e6
+    c = diverging_circuit()
     path, out = tmp_path / "wild.circuit.json", tmp_path / "out.circuit.json"
     save_circuit(c, path)
     assert main(["train", str(path), "--out", str(out), "--json"]) == 1

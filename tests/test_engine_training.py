@@ -125,8 +125,8 @@ def test_nan_mid_training_stops_and_restores_the_last_finite_parameters(monkeypa
         tr.epoch()
 
 
-def test_divergence_to_infinity_is_caught():
-    # A linear self-loop with a huge rate overflows; training must stop with finite values.
+def diverging_circuit() -> Circuit:
+    """A linear self-loop trained with a huge rate: its values overflow within a few epochs."""
     c = Circuit()
     c.add_unit(Unit(name="a", activation="linear", initial_value=1.0))
     c.connect("a", "a", 1.5)
@@ -135,7 +135,12 @@ def test_divergence_to_infinity_is_caught():
     c.training.optimizer = "sgd"
     c.training.learning_rate = 1e6
     c.training.epochs = 1000
-    tr = Trainer(c)
+    return c
+
+
+def test_divergence_to_infinity_is_caught():
+    # Training must stop with finite values when the loss overflows.
+    tr = Trainer(diverging_circuit())
     tr.run()
     assert tr.done and "NaN or infinite" in tr.stopped_because
     assert tr.parameters.all_finite()
