@@ -141,6 +141,7 @@ class TrainingController(QObject):
 
     def shutdown(self) -> None:
         """Stop the thread (window closing); the trained values stay in the document."""
+        self._prepare_timer.stop()  # a pending prepare would start a thread after the window closed
         if self.worker is not None:
             self._end_worker()
             self._commit()
