@@ -107,7 +107,7 @@ def run() -> list[dict]:
         results.append({"name": "render the whole window offscreen", "value": time.perf_counter() - t0,
                         "unit": "s", "goal": "< 1 s"})
         window.document.undo_stack.setClean()
-        window.shutdown(save_layout=False)
+        window.close()  # restore_layout=False: closing saves no settings
         window.deleteLater()
         app.processEvents()
     return results

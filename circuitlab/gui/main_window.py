@@ -57,6 +57,7 @@ class MainWindow(QMainWindow):
         self.add_panel(self.undo_view, "Edit History", "edit_history", Qt.RightDockWidgetArea, visible=False)
         setup_panels(self)
         self.resize(1400, 900)
+        self._persist_layout = restore_layout  # screenshot and bench windows leave the settings alone
         if restore_layout:
             self._restore_layout()
         self._layout_restored = True
@@ -236,5 +237,5 @@ class MainWindow(QMainWindow):
         if not self.files.maybe_save():
             event.ignore()
             return
-        self.shutdown()
+        self.shutdown(save_layout=self._persist_layout)
         event.accept()

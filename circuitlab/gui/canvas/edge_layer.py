@@ -8,10 +8,14 @@ drag never rebuilds the batches.
 """
 
 from PySide6.QtCore import QRectF, Qt
-from PySide6.QtGui import QBrush, QPainter, QPainterPath, QPen
+from PySide6.QtGui import QBrush, QPainter, QPainterPath, QPen, QPixmap
 from PySide6.QtWidgets import QGraphicsItem
 
 from circuitlab.gui.canvas import style
+
+
+SMOOTH_ALWAYS = 800  # circuits with at most this many connections are always antialiased
+SMOOTH_ZOOM = 0.75   # larger ones from this zoom on
 
 
 class EdgeLayer(QGraphicsItem):
@@ -21,6 +25,8 @@ class EdgeLayer(QGraphicsItem):
         super().__init__()
         self.edges = edges
         self.live: set = set()
+        self.selected: set = set()  # kept by the ConnectionItems as their selection changes
+        self._still: tuple | None = None  # (view key, picture of the still arrows) while dragging
         self._batches: list[tuple[int, bool, QPainterPath, QPainterPath]] | None = None
         # covers the whole scene, so arrows can move anywhere without bounds bookkeeping
         self._bounds = QRectF(-style.SCENE_EXTENT, -style.SCENE_EXTENT, 2 * style.SCENE_EXTENT,
@@ -45,10 +51,33 @@ class EdgeLayer(QGraphicsItem):
         items = set(items)
         if items != self.live:
             self.live = items
+            self._still = None
             self.invalidate()
 
     def boundingRect(self) -> QRectF:
         return self._bounds
+
+    def _paint_still_picture(self, painter: QPainter, widget) -> None:
+        """During a drag the other arrows stand still: draw them once into a picture and reuse it."""
+        t = painter.worldTransform()
+        ratio = widget.devicePixelRatioF()
+        key = (t.m11(), t.m12(), t.m21(), t.m22(), t.dx(), t.dy(), widget.width(), widget.height(),
+               ratio, id(self._batches))
+        if self._still is None or self._still[0] != key:
+            picture = QPixmap(int(widget.width() * ratio), int(widget.height() * ratio))
+            picture.setDevicePixelRatio(ratio)
+            picture.fill(Qt.transparent)
+            p = QPainter(picture)
+            p.setRenderHints(painter.renderHints())
+            p.setTransform(t)
+            for level, frozen, lines, heads in self._batches:
+                _draw(p, level, frozen, lines, heads)
+            p.end()
+            self._still = (key, picture)
+        painter.save()
+        painter.resetTransform()
+        painter.drawPixmap(0, 0, self._still[1])
+        painter.restore()
 
     def _build(self) -> list:
         groups: dict[tuple[int, bool], tuple[QPainterPath, QPainterPath]] = {}
@@ -66,16 +95,21 @@ class EdgeLayer(QGraphicsItem):
     def paint(self, painter: QPainter, option, widget=None) -> None:
         if self._batches is None:
             self._batches = self._build()
-        painter.setRenderHint(QPainter.Antialiasing)
-        selected = [e for e in self.edges.values() if e.isSelected()]
-        if selected:
+        # smoothing thousands of thin lines costs most of a frame; a large circuit seen whole
+        # is drawn without it (zoom in, or a smaller circuit, and the lines are smooth again)
+        lod = option.levelOfDetailFromTransform(painter.worldTransform())
+        painter.setRenderHint(QPainter.Antialiasing, len(self.edges) <= SMOOTH_ALWAYS or lod >= SMOOTH_ZOOM)
+        if self.selected:
             painter.setBrush(Qt.NoBrush)
-            for e in selected:
+            for e in self.selected:
                 painter.setPen(QPen(style.SELECTED_EDGE, e.width + 4.0, Qt.SolidLine, Qt.RoundCap))
                 painter.drawPath(e.path)
                 painter.drawPolygon(e.arrow)
-        for level, frozen, lines, heads in self._batches:
-            _draw(painter, level, frozen, lines, heads)
+        if self.live and widget is not None:
+            self._paint_still_picture(painter, widget)
+        else:
+            for level, frozen, lines, heads in self._batches:
+                _draw(painter, level, frozen, lines, heads)
         for e in self.live:
             heads = QPainterPath()
             heads.addPolygon(e.arrow)

@@ -74,10 +74,17 @@ def free_angle(occupied: list[float]) -> float:
     """The first candidate direction at least 60 degrees from every occupied one,
     else the candidate farthest from them."""
     occupied = [*occupied, math.pi / 2]  # the name below the unit
+    limit, turn = math.radians(60), 2 * math.pi
     best, best_gap = UP, -1.0
     for cand in LOOP_CANDIDATES:
-        gap = min(abs(math.remainder(cand - a, 2 * math.pi)) for a in occupied)
-        if gap >= math.radians(60):
+        gap = math.pi
+        for a in occupied:
+            d = abs(math.remainder(cand - a, turn))
+            if d < gap:
+                gap = d
+                if gap < limit and gap <= best_gap:
+                    break  # cannot beat the best so far
+        if gap >= limit:
             return cand
         if gap > best_gap:
             best, best_gap = cand, gap

@@ -285,6 +285,10 @@ class ConnectionItem(QGraphicsItem):
 
     def itemChange(self, change, value):
         if change == QGraphicsItem.ItemSelectedHasChanged:
+            if value:
+                self.layer.selected.add(self)
+            else:
+                self.layer.selected.discard(self)
             self.layer.update()
         return super().itemChange(change, value)
 

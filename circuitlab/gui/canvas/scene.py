@@ -90,6 +90,7 @@ class CircuitScene(QGraphicsScene):
             e.update_geometry()
         self._order = [edges.get(conn.key) for conn in c.connections]
         self.layer.live = set()
+        self.layer.selected &= set(edges.values())  # removed items may leave without a deselect
         self.layer.invalidate()
         self.refresh_values()
 
@@ -141,7 +142,13 @@ class CircuitScene(QGraphicsScene):
     def begin_drag(self, names) -> None:
         """Units ``names`` are about to be dragged: keep their model positions, draw their arrows live."""
         self.frozen_positions = set(names)
-        self.layer.set_live(e for n in names if n in self.units for e in self.units[n].edges)
+        live = set()
+        for n in names:
+            for e in self.units[n].edges if n in self.units else ():
+                live.add(e)
+                other = e.target if e.source.name == n else e.source
+                live.update(k for k in other.edges if k.source is k.target)  # its loop turns too
+        self.layer.set_live(live)
 
     def end_drag(self) -> None:
         self.frozen_positions = set()
