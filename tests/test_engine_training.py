@@ -3,7 +3,7 @@
 import numpy as np
 import pytest
 
-from circuitlab.engine import EngineError, Trainer, backward, compile_circuit, forward
+from circuitlab.engine import EngineError, Trainer, backward, forward
 from circuitlab.engine import trainer as trainer_module
 from circuitlab.engine.optimizers import Adam, clip_by_global_norm
 from circuitlab.model import Circuit, Sequence, Unit, UnitSchedule
