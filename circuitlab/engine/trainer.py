@@ -88,7 +88,7 @@ class Trainer:
         self.circuit = circuit
         self.settings: TrainingSettings = circuit.training
         self.compiled = compiled
-        self._train_idx, self._held_idx = train, held
+        self._train_idx = train
         self._train_set = train_set
         self._held_set = compiled.subset(held) if held.size else None
         self._base = compiled.parameters_from_circuit()
