@@ -43,7 +43,7 @@ def type_into(qtbot, panel, row, step, text):
     """Click a cell and type: the first key opens the cell's editor, Return commits."""
     click(qtbot, panel, row, step)
     qtbot.keyClick(panel.view, text[0])
-    editor = panel.view.findChild(QLineEdit)
+    editor = [e for e in panel.view.viewport().findChildren(QLineEdit) if e.isVisible()][-1]
     qtbot.keyClicks(editor, text[1:])
     qtbot.keyClick(editor, Qt.Key.Key_Return)
     # the item view commits a finished editor through a queued call

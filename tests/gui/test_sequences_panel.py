@@ -50,7 +50,8 @@ def cell_click(qtbot, p, row, col, double=False):
 def edit_cell(qtbot, p, row, col, text):
     cell_click(qtbot, p, row, col)
     cell_click(qtbot, p, row, col, double=True)
-    editor = p.list.viewport().findChild(QLineEdit)  # the name's editor, or the length spin box's text
+    # the open editor (a name's line edit or the length spin box's); closed ones may await deletion
+    editor = [e for e in p.list.viewport().findChildren(QLineEdit) if e.isVisible()][-1]
     editor.selectAll()
     qtbot.keyClicks(editor, text)
     qtbot.keyClick(editor, Qt.Key.Key_Return)
