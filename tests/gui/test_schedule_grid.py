@@ -153,6 +153,11 @@ def test_paste_a_block_fill_and_clear(grid, qtbot):
     assert seq.clamp_value("hidden", 1) == -1.0 and seq.clamp_value("hidden", 3) == 3.0  # free row: clamp layer
     settle(qtbot, grid)
     assert grid.model.cell(1, 2).text() == "(2)"
+    # copying the block gives back what was pasted, tab-separated
+    click(qtbot, grid, 0, 1)
+    click(qtbot, grid, 1, 3, Qt.KeyboardModifier.ShiftModifier)
+    qtbot.keyClick(grid.view, Qt.Key.Key_C, Qt.KeyboardModifier.ControlModifier)
+    assert QGuiApplication.clipboard().text() == "0.5\t0.25\t0.0\n-1.0\t2.0\t3.0\n"
     # a block with a non-number is refused whole
     QGuiApplication.clipboard().setText("1\t1\n1\tx\n")
     qtbot.keyClick(grid.view, Qt.Key.Key_V, Qt.KeyboardModifier.ControlModifier)
