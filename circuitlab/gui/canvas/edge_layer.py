@@ -104,6 +104,7 @@ class EdgeLayer(QGraphicsItem):
             for e in self.selected:
                 painter.setPen(QPen(style.SELECTED_EDGE, e.width + 4.0, Qt.SolidLine, Qt.RoundCap))
                 painter.drawPath(e.path)
+                painter.setPen(QPen(style.SELECTED_EDGE, 3.0, Qt.SolidLine, Qt.RoundCap, Qt.RoundJoin))
                 painter.drawPolygon(e.arrow)
         if self.live and widget is not None:
             self._paint_still_picture(painter, widget)
