@@ -37,7 +37,7 @@ def small_circuit() -> Circuit:
 
 
 # ---------------------------------------------------------------- round trip
-@settings(max_examples=150, deadline=None, derandomize=True,
+@settings(max_examples=100, deadline=None, derandomize=True,
           suppress_health_check=[HealthCheck.too_slow])
 @given(circuits(values=ANY_FINITE))
 def test_round_trip_is_exact(circuit):
