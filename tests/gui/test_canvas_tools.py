@@ -6,7 +6,7 @@ networkx's spring layout (Fruchterman and Reingold, 1991).
 
 import math
 
-from PySide6.QtCore import QPointF, Qt
+from PySide6.QtCore import QPoint, QPointF, Qt
 from PySide6.QtTest import QTest
 
 from circuitlab.gui.canvas import style
@@ -109,3 +109,28 @@ def test_loops_turn_away_from_neighbours_and_weights_restyle_cheaply(make_main_w
     assert win.document.circuit.connection("b", "a").weight == -1.0
     win.document.push(ConnectUnits(win.document, "c", "c", 0.1))
     assert scene.edges[("c", "c")].level == style.weight_level(0.1, 1.0)
+
+
+def test_hover_shows_the_value_and_editing_keys_stay_on_the_canvas(make_main_window, qtbot):
+    win = make_main_window(small())
+    canvas, scene = win.canvas, win.canvas.circuit_scene
+    qtbot.wait(50)  # let the panels settle their first layout, which moves the view
+    item = scene.edges[("b", "a")]
+    at = canvas.mapFromScene(item.path.pointAtPercent(0.5))
+    QTest.mouseMove(canvas.viewport(), at + QPoint(0, 40))
+    qtbot.wait(20)
+    QTest.mouseMove(canvas.viewport(), at)
+    qtbot.waitUntil(lambda: "weight -1" in win.statusBar().currentMessage(), timeout=2000)
+    assert "-1" in item.toolTip()
+    # Delete pressed in a text field of another panel edits the text, not the circuit
+    scene.select(["a"])
+    panel = win.properties_panel
+    win.panel("properties").show()
+    panel.name.setFocus()
+    QTest.keyClick(panel.name, Qt.Key_End)
+    QTest.keyClick(panel.name, Qt.Key_Delete)
+    QTest.keyClick(panel.name, Qt.Key_Backspace)
+    assert win.document.circuit.unit_names() == ["a", "b", "c"]
+    canvas.setFocus()
+    QTest.keyClick(canvas, Qt.Key_Delete)
+    assert win.document.circuit.unit_names() == ["b", "c"]

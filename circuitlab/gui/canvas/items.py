@@ -62,6 +62,13 @@ NAME_METRICS = QFontMetricsF(NAME_FONT)
 NAME_WIDTH = 120.0
 
 
+def _unit_bounds(name: str) -> QRectF:
+    """The circle with its rim markers, and the name plate below (as wide as the name needs)."""
+    text = NAME_METRICS.elidedText(name, Qt.ElideMiddle, NAME_WIDTH - 8)
+    w = max(2 * R + 18, NAME_METRICS.horizontalAdvance(text) + 12)
+    return QRectF(-w / 2, -R - 8, w, 2 * R + 16 + NAME_METRICS.height() + 4)
+
+
 class UnitItem(QGraphicsItem):
     """A unit: a circle with its activation glyph, markers and name."""
 
@@ -69,6 +76,7 @@ class UnitItem(QGraphicsItem):
         super().__init__()
         self.unit = unit
         self.look = look
+        self._bounds = _unit_bounds(look.name)
         self.edges: list["ConnectionItem"] = []
         self.setFlags(QGraphicsItem.ItemIsSelectable | QGraphicsItem.ItemIsMovable
                       | QGraphicsItem.ItemSendsGeometryChanges)
@@ -83,6 +91,9 @@ class UnitItem(QGraphicsItem):
 
     def set_look(self, look: UnitLook) -> None:
         if look != self.look:
+            if look.name != self.look.name:
+                self.prepareGeometryChange()
+                self._bounds = _unit_bounds(look.name)
             self.look = look
             self.update()
             for e in self.edges:
@@ -110,7 +121,7 @@ class UnitItem(QGraphicsItem):
 
     # ---------------------------------------------------------------- drawing
     def boundingRect(self) -> QRectF:
-        return QRectF(-NAME_WIDTH / 2, -R - 8, NAME_WIDTH, 2 * R + 38)
+        return self._bounds
 
     def shape(self) -> QPainterPath:
         path = QPainterPath()
@@ -162,9 +173,8 @@ class UnitItem(QGraphicsItem):
         return super().itemChange(change, value)
 
     def hoverEnterEvent(self, event) -> None:
-        u = self.unit
-        sched_text = self.scene().describe_unit(u) if self.scene() is not None else ""
-        self.setToolTip(sched_text)
+        if self.scene() is not None:
+            self.setToolTip(self.scene().hover(self))
         super().hoverEnterEvent(event)
 
     def hoverMoveEvent(self, event) -> None:
@@ -294,5 +304,5 @@ class ConnectionItem(QGraphicsItem):
 
     def hoverEnterEvent(self, event) -> None:
         if self.scene() is not None:
-            self.setToolTip(self.scene().describe_connection(self.connection))
+            self.setToolTip(self.scene().hover(self))
         super().hoverEnterEvent(event)

@@ -22,6 +22,7 @@ class CircuitScene(QGraphicsScene):
     """Items for ``document.circuit``; emits ``weight_scale_changed`` for the legend."""
 
     weight_scale_changed = Signal(float)
+    hovered = Signal(str)  # a plain one-line description of the unit or connection under the mouse
 
     def __init__(self, document: Document, parent=None):
         super().__init__(parent)
@@ -226,6 +227,20 @@ class CircuitScene(QGraphicsScene):
         if unit.sign:
             lines.append(f"{unit.sign} (outgoing weights {'≥' if unit.sign == 'excitatory' else '≤'} 0)")
         return "<br>".join(lines)
+
+    def hover(self, item) -> str:
+        """Announce ``item`` (under the mouse) and return its tooltip text."""
+        if isinstance(item, UnitItem):
+            u = item.unit
+            line = f"{u.name}: {u.activation}, bias {u.bias:+.4g}, initial state {u.initial_mode}"
+            tip = self.describe_unit(u)
+        else:
+            k = item.connection
+            line = f"{k.source} → {k.target}: weight {k.weight:+.6g}" + ("" if k.trains else " (frozen)")
+            line += f", tie group '{k.tie}'" if k.tie else ""
+            tip = self.describe_connection(k)
+        self.hovered.emit(line)
+        return tip
 
     def describe_connection(self, conn: Connection) -> str:
         text = f"<b>{conn.source} → {conn.target}</b><br>weight {conn.weight:+.6g}"

@@ -61,6 +61,7 @@ class CircuitCanvas(QGraphicsView):
         self.setTransformationAnchor(QGraphicsView.AnchorUnderMouse)
         self.setResizeAnchor(QGraphicsView.AnchorViewCenter)
         self.setDragMode(QGraphicsView.RubberBandDrag)
+        self.setRubberBandSelectionMode(Qt.ContainsItemShape)  # only what the rectangle encloses
         self.setOptimizationFlags(QGraphicsView.DontSavePainterState)
         self.setFocusPolicy(Qt.StrongFocus)
         self.setHorizontalScrollBarPolicy(Qt.ScrollBarAlwaysOff)  # pan with the middle button or space
@@ -68,6 +69,7 @@ class CircuitCanvas(QGraphicsView):
         self.tool = "select"
         self.show_legend = True
         self._legend_cache = None  # ((weight scale, pixel ratio), QPixmap)
+        self._fit_pending = False  # fit_to_view was asked for before the view had a size
         self._connect_from: UnitItem | None = None
         self._connect_moved = False
         self._connect_line: QGraphicsPathItem | None = None
@@ -78,6 +80,7 @@ class CircuitCanvas(QGraphicsView):
         self._paste_count = 0
         self.rng = random.Random()
         self.scene_.selectionChanged.connect(self._emit_selection)
+        self.scene_.hovered.connect(self.status_message)
         self.scene_.weight_scale_changed.connect(lambda _s: self.viewport().update())
         self.actions_ = self._make_actions()
         # a fixed, very large scene: growing it as units move would make the view jump mid-drag
@@ -105,6 +108,11 @@ class CircuitCanvas(QGraphicsView):
         return self.scene_.selected_units(), self.scene_.selected_connections()
 
     def fit_to_view(self) -> None:
+        """Zoom and centre so the whole circuit shows (once the view has its size, if not yet shown)."""
+        if not self.isVisible() or self.viewport().width() < 50 or self.viewport().height() < 50:
+            self._fit_pending = True
+            return
+        self._fit_pending = False
         rect = self.scene_.content_rect()
         if rect.isEmpty():
             self.resetTransform()
@@ -274,6 +282,11 @@ class CircuitCanvas(QGraphicsView):
             group.addAction(a)
             self.addAction(a)
         acts["tool_select"].setChecked(True)
+        # editing keys act on the canvas only when it has the focus: Delete or Ctrl+A in another
+        # panel (a table, a text field) must not delete or select units
+        for key in ("delete", "cut", "copy", "paste", "duplicate", "select_all"):
+            acts[key].setShortcutContext(Qt.WidgetWithChildrenShortcut)
+            self.addAction(acts[key])
         return acts
 
     def _toggle_snap(self, on: bool) -> None:
@@ -482,6 +495,16 @@ class CircuitCanvas(QGraphicsView):
         h = pixmap.height() / ratio
         painter.drawPixmap(QPointF(12, self.viewport().height() - h - 12), pixmap)
         painter.restore()
+
+    def resizeEvent(self, event) -> None:
+        super().resizeEvent(event)
+        if self._fit_pending:
+            self.fit_to_view()
+
+    def showEvent(self, event) -> None:
+        super().showEvent(event)
+        if self._fit_pending:
+            self.fit_to_view()
 
     def scrollContentsBy(self, dx: int, dy: int) -> None:
         super().scrollContentsBy(dx, dy)
