@@ -70,6 +70,7 @@ class CircuitCanvas(QGraphicsView):
         self.show_legend = True
         self._legend_cache = None  # ((weight scale, pixel ratio), QPixmap)
         self._fit_pending = False  # fit_to_view was asked for before the view had a size
+        self._keep_fitted = False  # fitted and not zoomed or panned since: a resize fits again
         self._connect_from: UnitItem | None = None
         self._connect_moved = False
         self._connect_line: QGraphicsPathItem | None = None
@@ -113,6 +114,7 @@ class CircuitCanvas(QGraphicsView):
             self._fit_pending = True
             return
         self._fit_pending = False
+        self._keep_fitted = True
         rect = self.scene_.content_rect()
         if rect.isEmpty():
             self.resetTransform()
@@ -129,6 +131,7 @@ class CircuitCanvas(QGraphicsView):
         self.centerOn(rect.center() - QPointF(lw / 2 / z, 0))
 
     def zoom(self, factor: float) -> None:
+        self._keep_fitted = False
         self._set_zoom(self.transform().m11() * factor)
 
     def _set_zoom(self, z: float) -> None:
@@ -305,6 +308,7 @@ class CircuitCanvas(QGraphicsView):
     def mousePressEvent(self, event: QMouseEvent) -> None:
         pos = self.mapToScene(event.position().toPoint())
         if event.button() == Qt.MiddleButton or (event.button() == Qt.LeftButton and self._space):
+            self._keep_fitted = False
             self._pan_from = event.position()
             self.viewport().setCursor(Qt.ClosedHandCursor)
             return
@@ -498,7 +502,7 @@ class CircuitCanvas(QGraphicsView):
 
     def resizeEvent(self, event) -> None:
         super().resizeEvent(event)
-        if self._fit_pending:
+        if self._fit_pending or self._keep_fitted:
             self.fit_to_view()
 
     def showEvent(self, event) -> None:
