@@ -11,7 +11,7 @@ when the window goes away (stop threads there).
 
 from pathlib import Path
 
-from PySide6.QtCore import QByteArray, QSettings, Qt, Signal
+from PySide6.QtCore import QByteArray, QSettings, Qt, QTimer, Signal
 from PySide6.QtGui import QAction, QKeySequence
 from PySide6.QtWidgets import (QDockWidget, QLabel, QMainWindow, QMenu, QMessageBox, QToolBar,
                                QUndoView, QWidget)
@@ -21,6 +21,7 @@ from circuitlab.gui.canvas import CircuitCanvas
 from circuitlab.gui.document import Document
 from circuitlab.gui.files import FileController
 from circuitlab.gui.panels import setup_panels
+from circuitlab.model import find_problems
 
 MENU_ORDER = ("File", "Edit", "View", "Circuit", "Help")
 STATE_VERSION = 1
@@ -63,6 +64,7 @@ class MainWindow(QMainWindow):
         self._layout_restored = True
         self._update_title()
         self._update_counts()
+        self._problem_timer.start()
 
     # ---------------------------------------------------------- extension API
     def add_panel(self, widget: QWidget, title: str, object_name: str,
@@ -185,7 +187,30 @@ class MainWindow(QMainWindow):
 
     def _build_status_bar(self) -> None:
         self._counts = QLabel()
+        self.problems_label = QLabel()
+        self.statusBar().addPermanentWidget(self.problems_label)
         self.statusBar().addPermanentWidget(self._counts)
+        # the validator runs shortly after each edit (not at every training snapshot)
+        self._problem_timer = QTimer(self)
+        self._problem_timer.setSingleShot(True)
+        self._problem_timer.setInterval(250)
+        self._problem_timer.timeout.connect(self.check_problems)
+        self.document.undo_stack.indexChanged.connect(lambda _i: self._problem_timer.start())
+        self.document.replaced.connect(self._problem_timer.start)
+
+    def check_problems(self) -> list:
+        """Run the validator on the circuit and show how many problems it has (details on hover)."""
+        problems = find_problems(self.document.circuit)
+        if problems:
+            n = len(problems)
+            self.problems_label.setText(f"<span style='color:#a3261b'>{n} problem{'s' if n != 1 else ''}</span>")
+            shown = "\n".join(f"• {p}" for p in problems[:15])
+            more = f"\n… and {n - 15} more" if n > 15 else ""
+            self.problems_label.setToolTip(shown + more)
+        else:
+            self.problems_label.setText("no problems")
+            self.problems_label.setToolTip("The validator finds nothing that would stop training.")
+        return problems
 
     def _update_counts(self) -> None:
         c = self.document.circuit

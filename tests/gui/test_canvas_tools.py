@@ -11,7 +11,7 @@ from PySide6.QtTest import QTest
 
 from circuitlab.gui.canvas import style
 from circuitlab.gui.canvas.geometry import UP, free_angle
-from circuitlab.gui.commands import ConnectUnits
+from circuitlab.gui.commands import ConnectUnits, SetUnitFields
 from circuitlab.model import Circuit, Unit, UnitSchedule
 
 
@@ -134,3 +134,36 @@ def test_hover_shows_the_value_and_editing_keys_stay_on_the_canvas(make_main_win
     canvas.setFocus()
     QTest.keyClick(canvas, Qt.Key_Delete)
     assert win.document.circuit.unit_names() == ["b", "c"]
+
+
+def test_snapping_and_tied_weights_and_the_problem_count(make_main_window, qtbot):
+    win = make_main_window(small())
+    doc, canvas, scene, panel = win.document, win.canvas, win.canvas.circuit_scene, win.properties_panel
+    qtbot.wait(50)
+    canvas.actions_["snap"].trigger()
+    start = canvas.mapFromScene(QPointF(200, 0))  # unit c
+    end = canvas.mapFromScene(QPointF(263, 47))
+    QTest.mousePress(canvas.viewport(), Qt.LeftButton, Qt.NoModifier, start)
+    QTest.mouseMove(canvas.viewport(), end)
+    QTest.mouseRelease(canvas.viewport(), Qt.LeftButton, Qt.NoModifier, end)
+    c = doc.circuit.unit("c")
+    assert (c.x % style.GRID_STEP, c.y % style.GRID_STEP) == (0, 0) and c.x > 200
+    # tie a -> b and b -> a: the second takes the first one's weight, and later edits reach both
+    scene.select([], [("a", "b"), ("b", "a")])
+    panel.tie.setFocus()
+    QTest.keyClicks(panel.tie, "mirror")
+    QTest.keyClick(panel.tie, Qt.Key_Return)
+    assert {doc.circuit.connection(*k).weight for k in [("a", "b"), ("b", "a")]} == {0.5}
+    scene.select([], [("b", "a")])
+    panel.weight.setFocus()
+    panel.weight.selectAll()
+    QTest.keyClicks(panel.weight, "2")
+    QTest.keyClick(panel.weight, Qt.Key_Return)
+    assert doc.circuit.connection("a", "b").weight == 2.0
+    win.undo_action.trigger()
+    assert doc.circuit.connection("a", "b").weight == 0.5
+    # an inhibitory source with positive weights is a problem the status bar counts (validator)
+    assert not win.check_problems() and win.problems_label.text() == "no problems"
+    doc.push(SetUnitFields(doc, ["b"], "sign", "inhibitory"))
+    assert win.check_problems()
+    assert "problem" in win.problems_label.text() and "inhibitory" in win.problems_label.toolTip()
