@@ -188,6 +188,7 @@ class MainWindow(QMainWindow):
     def _build_status_bar(self) -> None:
         self._counts = QLabel()
         self.problems_label = QLabel()
+        self.problems_label.setContentsMargins(0, 0, 14, 0)
         self.statusBar().addPermanentWidget(self.problems_label)
         self.statusBar().addPermanentWidget(self._counts)
         # the validator runs shortly after each edit (not at every training snapshot)

@@ -27,6 +27,7 @@ def render_window(window, path: str, size: tuple[int, int]) -> bool:
     window.show()
     settle()
     window.canvas.fit_to_view()
+    window.check_problems()  # normally shortly after an edit; the picture is taken at once
     settle()
     image = window.grab()
     if (window.width(), window.height()) != size:
