@@ -16,6 +16,7 @@ SUITES: dict[str, str] = {
     "engine": "circuitlab.engine.benchmarks:run",
     "grid": "circuitlab.gui.panels.schedule_grid_bench:run",
     "editor": "circuitlab.gui.benchmarks:run",
+    "training-views": "circuitlab.gui.training.benchmarks:run",
 }
 
 

@@ -2,7 +2,7 @@
 
 ``TrainingViews`` turns each controller update into view updates. How often
 that happens is the worker's business: it waits for each snapshot to be
-drawn and spaces them so drawing takes at most a quarter of the time.
+drawn and spaces them so drawing takes at most a fifth of the time.
 """
 
 import numpy as np

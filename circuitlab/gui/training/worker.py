@@ -117,11 +117,11 @@ class TrainingWorker(QThread):
 
         The worker waits for this before training on, so drawing never competes
         with training for the interpreter lock (the window stays responsive), and
-        it spaces snapshots so drawing takes at most a quarter of the time.
+        it spaces snapshots so drawing takes at most a fifth of the time.
         """
         with self._lock:
             self._acked = True
-            self._interval = max(1.0 / self._max_rate, 3.0 * cost)
+            self._interval = max(1.0 / self._max_rate, 4.0 * cost)
             self._lock.notify()
 
     # ------------------------------------------------------------ the thread
