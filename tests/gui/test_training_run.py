@@ -207,3 +207,27 @@ def test_settings_panel_edits_are_undoable(qtbot, main_window):
     panel.learning_rate.setValue(0.0)
     assert panel.problem.isVisible() and "learning rate" in panel.problem.text()
     assert doc.circuit.training.learning_rate == 0.01 and panel.learning_rate.value() == 0.01
+
+
+def test_screenshot_after_training(isolated_settings, examples_dir, tmp_path):
+    from PySide6.QtGui import QImage
+
+    from circuitlab.cli import build_editor_parser
+    from circuitlab.gui.app import run_editor
+    from circuitlab.gui.training import screenshot
+
+    trained = []
+    original = screenshot.train_epochs
+    screenshot.train_epochs = lambda training, n, timeout=600.0: trained.append(
+        (original(training, n, timeout), training.curves.epochs))
+    try:
+        out = tmp_path / "shot.png"
+        args = build_editor_parser().parse_args(
+            [str(examples_dir / "two_step_echo.circuit.json"), "--train-epochs", "25",
+             "--screenshot", str(out), "--size", "1200x800"])
+        assert run_editor(args) == 0
+    finally:
+        screenshot.train_epochs = original
+    assert trained == [(True, 25)]  # the run finished and the curves hold its 25 epochs
+    image = QImage(str(out))
+    assert (image.width(), image.height()) == (1200, 800)

@@ -8,7 +8,9 @@ finite differences of the engine's loss (common practice).
 
 import numpy as np
 import pytest
-from PySide6.QtCore import QPoint, Qt
+from PySide6.QtCore import QEvent, QPoint, QPointF, Qt
+from PySide6.QtGui import QMouseEvent
+from PySide6.QtWidgets import QApplication
 
 from circuitlab.engine import Trainer, backward, compile_circuit, forward, loss_value
 from circuitlab.gui.training import export
@@ -111,7 +113,12 @@ def test_activity_view_switches_stacks_and_reports_hover(qtbot, latch):
     j = compiled.unit_index("latched_open")
     vb = view.plot.getViewBox()
     pos = view.graphics.mapFromScene(vb.mapViewToScene(pg_point(7, j)))
-    qtbot.mouseMove(view.graphics.viewport(), pos)
+    # a real mouse-move event on the plot's viewport (sent directly: QTest's moves go to whichever
+    # window the offscreen platform thinks is under the cursor, which other tests' windows may be)
+    viewport = view.graphics.viewport()
+    move = QMouseEvent(QEvent.Type.MouseMove, QPointF(pos), QPointF(viewport.mapToGlobal(pos)),
+                       Qt.NoButton, Qt.NoButton, Qt.NoModifier)
+    QApplication.sendEvent(viewport, move)
     qtbot.waitUntil(lambda: "step 7" in view.hover.text())
     assert f"{act.y[0, 7, j]:.5g}" in view.hover.text()
     assert "target" in view.hover.text()  # latched_open carries a target at every step

@@ -77,7 +77,8 @@ class CurvesView(QWidget):
                                    "falling towards step 0 means vanishing derivatives, rising means exploding")
         self.rate_plot.setLabel("bottom", "epoch")
         self.grad_plot.setLabel("bottom", "epoch")
-        legend = self.loss_plot.addLegend(offset=(-4, 4), labelTextColor=style.FOREGROUND,
+        # bottom left: a falling loss leaves that corner empty
+        legend = self.loss_plot.addLegend(offset=(6, -6), labelTextColor=style.FOREGROUND,
                                           brush=pg.mkBrush(255, 255, 255, 220), colCount=2)
         self.train_curve = self.loss_plot.plot(pen=style.TRAIN_PEN, name="training")
         self.held_curve = self.loss_plot.plot(pen=style.HELD_OUT_PEN)  # in the legend once it has data

@@ -87,7 +87,9 @@ class TidyLogAxis(pg.AxisItem):
                    if minVal <= d + np.log10(m) <= maxVal]
         if len(decades) >= 2:
             return [(1.0, decades), (None, between)]
-        return [(None, sorted(decades + between))]
+        if len(decades) + len(between) >= 2:
+            return [(None, sorted(decades + between))]
+        return super().logTickValues(minVal, maxVal, size, stdTicks)  # a narrow range: pyqtgraph's own
 
 
 def fit_name_axis(axis: pg.AxisItem, names: list[str]) -> None:
