@@ -80,7 +80,8 @@ class UnrolledView(QWidget):
         self._cursor.setZValue(4)
         self.plot.addItem(self._cursor)
         cmap = style.colormap(style.STATE_MAP)
-        self._state_brushes = [pg.mkBrush(c) for c in cmap.getLookupTable(nPts=_COLOUR_LEVELS, mode="qcolor")]
+        self._brush_array = np.array([pg.mkBrush(c) for c in
+                                      cmap.getLookupTable(nPts=_COLOUR_LEVELS, mode="qcolor")], dtype=object)
 
         self.unit_names: list[str] = []
         self.connections: list[tuple[str, str]] = []
@@ -151,7 +152,7 @@ class UnrolledView(QWidget):
         """The shown sequence's ``(steps, n)`` states, net inputs and derivatives."""
         self._stacks = {k: np.asarray(v, float) for k, v in
                         (("y", y), ("net", net), ("e", e), ("delta", delta)) if v is not None}
-        self._draw_nodes()
+        self._draw_nodes(brushes_only=True)
         self._describe()
 
     # ------------------------------------------------------------- selection
@@ -231,28 +232,37 @@ class UnrolledView(QWidget):
                     continue
                 item.setData(self._seg_x[sel].ravel(), self._seg_y[sel].ravel(), connect="pairs")
 
-    def _draw_nodes(self) -> None:
+    def _draw_nodes(self, brushes_only: bool = False) -> None:
+        """Lay out every cell; with ``brushes_only`` just recolour them (the live-update path)."""
         n, T = len(self.unit_names), self.steps
         if n == 0 or T == 0:
             self._nodes.clear()
             return
+        brushes = self._brushes(n, T)
+        if brushes_only and len(self._nodes.data) == T * n:
+            self._nodes.setBrush(brushes)
+            return
         tt, ii = np.meshgrid(np.arange(T), np.arange(n), indexing="ij")
-        y = self._stacks.get("y")
-        if y is not None and y.shape == (T, n):
-            lo, hi = style.state_levels(y)
-            level = np.clip(((y - lo) / (hi - lo) * (_COLOUR_LEVELS - 1)), 0, _COLOUR_LEVELS - 1)
-            level = np.nan_to_num(level).astype(int)
-            brushes = np.array(self._state_brushes, dtype=object)[level.ravel()]
-        else:
-            brushes = np.full(T * n, pg.mkBrush("#ffffff"), dtype=object)
-        present = self._present.ravel() if self._present.shape == (T, n) else np.ones(T * n, bool)
-        brushes[~present] = ABSENT_BRUSH
         symbols = np.where(self._clamp.ravel(), CLAMP_SYMBOL, FREE_SYMBOL) if self._clamp.shape == (T, n) \
             else np.full(T * n, FREE_SYMBOL)
         targets = self._target.ravel() if self._target.shape == (T, n) else np.zeros(T * n, bool)
         pens = np.where(targets, TARGET_PEN, np.where(symbols == CLAMP_SYMBOL, CLAMP_PEN, PLAIN_PEN))
         self._nodes.setData(x=tt.ravel().astype(float), y=ii.ravel().astype(float), symbol=symbols,
                             brush=brushes, pen=pens, size=self._node_size())
+
+    def _brushes(self, n: int, T: int) -> np.ndarray:
+        """One brush per cell (step-major), from the state's place on the colour map."""
+        y = self._stacks.get("y")
+        if y is not None and y.shape == (T, n):
+            lo, hi = style.state_levels(y)
+            level = np.clip(((y - lo) / (hi - lo) * (_COLOUR_LEVELS - 1)), 0, _COLOUR_LEVELS - 1)
+            level = np.nan_to_num(level).astype(int)
+            brushes = self._brush_array[level.ravel()]
+        else:
+            brushes = np.full(T * n, pg.mkBrush("#ffffff"), dtype=object)
+        present = self._present.ravel() if self._present.shape == (T, n) else np.ones(T * n, bool)
+        brushes[~present] = ABSENT_BRUSH
+        return brushes
 
     def _draw_selection(self) -> None:
         if self._selected_connection is not None and self._seg_x.shape[1]:
