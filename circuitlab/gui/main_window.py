@@ -226,7 +226,6 @@ class MainWindow(QMainWindow):
 
     def _after_replace(self) -> None:
         self._update_title()
-        self.canvas.fit_to_view()
 
     def _about(self) -> None:
         QMessageBox.about(self, "About circuitlab", (

@@ -63,6 +63,9 @@ def test_arrange_is_one_undoable_step_and_spreads_units(make_main_window):
 def test_wheel_zooms_and_fit_shows_everything(make_main_window):
     win = make_main_window(small())
     canvas = win.canvas
+    # opening a circuit shows all of it
+    view_rect = canvas.mapToScene(canvas.viewport().rect()).boundingRect()
+    assert view_rect.contains(canvas.circuit_scene.content_rect())
     z0 = canvas.transform().m11()
     canvas.zoom(2.0)
     assert canvas.transform().m11() == 2 * z0

@@ -25,7 +25,7 @@ class EdgeLayer(QGraphicsItem):
         super().__init__()
         self.edges = edges
         self.live: set = set()
-        self.selected: set = set()  # kept by the ConnectionItems as their selection changes
+        self.selected: set = set()  # kept by the scene as the selection changes
         self._still: tuple | None = None  # (view key, picture of the still arrows) while dragging
         self._batches: list[tuple[int, bool, QPainterPath, QPainterPath]] | None = None
         # covers the whole scene, so arrows can move anywhere without bounds bookkeeping

@@ -293,15 +293,6 @@ class ConnectionItem(QGraphicsItem):
     def paint(self, painter: QPainter, option, widget=None) -> None:
         """Never called (ItemHasNoContents); the EdgeLayer draws the arrow."""
 
-    def itemChange(self, change, value):
-        if change == QGraphicsItem.ItemSelectedHasChanged:
-            if value:
-                self.layer.selected.add(self)
-            else:
-                self.layer.selected.discard(self)
-            self.layer.update()
-        return super().itemChange(change, value)
-
     def hoverEnterEvent(self, event) -> None:
         if self.scene() is not None:
             self.setToolTip(self.scene().hover(self))

@@ -22,6 +22,7 @@ class CircuitScene(QGraphicsScene):
     """Items for ``document.circuit``; emits ``weight_scale_changed`` for the legend."""
 
     weight_scale_changed = Signal(float)
+    rebuilt = Signal()  # all items were made afresh for a newly loaded circuit
     hovered = Signal(str)  # a plain one-line description of the unit or connection under the mouse
 
     def __init__(self, document: Document, parent=None):
@@ -34,11 +35,23 @@ class CircuitScene(QGraphicsScene):
         self._order: list[ConnectionItem | None] = []  # the item of each connection, in circuit order
         self.scale = 1.0
         self.frozen_positions: set[str] = set()  # units being dragged: their model position lags
-        document.structure_changed.connect(self.sync_structure)
+        self._shown = None  # the circuit object the items were built for
+        document.structure_changed.connect(self._structure_changed)
         document.values_changed.connect(self.refresh_values)
         document.data_changed.connect(self.refresh_looks)
-        document.replaced.connect(self.rebuild)
+        self.selectionChanged.connect(self._selection_changed)
         self.rebuild()
+
+    def _structure_changed(self) -> None:
+        if self.document.circuit is self._shown:
+            self.sync_structure()
+        else:  # a different circuit was loaded
+            self.rebuild()
+
+    def _selection_changed(self) -> None:
+        # a per-item itemChange hook would cost a Python call for every change of 3,000 arrows
+        self.layer.selected = {i for i in self.selectedItems() if isinstance(i, ConnectionItem)}
+        self.layer.update()
 
     # ------------------------------------------------------------------ sync
     def rebuild(self) -> None:
@@ -48,7 +61,9 @@ class CircuitScene(QGraphicsScene):
         self.edges = {}
         self.layer = EdgeLayer(self.edges)
         self.addItem(self.layer)
+        self._shown = self.document.circuit
         self.sync_structure()
+        self.rebuilt.emit()
 
     def sync_structure(self) -> None:
         c = self.document.circuit
@@ -63,6 +78,7 @@ class CircuitScene(QGraphicsScene):
         for item in old_units.values():
             self.removeItem(item)
         old_edges = {id(e.connection): e for e in self.edges.values()}
+        fresh: set[ConnectionItem] = set()
         edges: dict[tuple[str, str], ConnectionItem] = {}
         for conn in c.connections:
             src, dst = units.get(conn.source), units.get(conn.target)
@@ -74,6 +90,7 @@ class CircuitScene(QGraphicsScene):
                     self.removeItem(item)
                 item = ConnectionItem(conn, src, dst, self.layer)
                 self.addItem(item)
+                fresh.add(item)
             edges[conn.key] = item
         for item in old_edges.values():
             self.removeItem(item)
@@ -87,11 +104,16 @@ class CircuitScene(QGraphicsScene):
             e.source.edges.append(e)
             if e.target is not e.source:
                 e.target.edges.append(e)
-            e.bent = key[0] != key[1] and (key[1], key[0]) in edges
-            e.update_geometry()
+        # unit moves reshape their arrows as they happen; here only new arrows, arrows whose
+        # reverse came or went, and self-connections (their neighbours may have changed) need it
+        for key, e in edges.items():
+            bent = key[0] != key[1] and (key[1], key[0]) in edges
+            if e in fresh or bent != e.bent or key[0] == key[1]:
+                e.bent = bent
+                e.update_geometry()
         self._order = [edges.get(conn.key) for conn in c.connections]
+        self._selection_changed()  # removed arrows must not stay highlighted
         self.layer.live = set()
-        self.layer.selected &= set(edges.values())  # removed items may leave without a deselect
         self.layer.invalidate()
         self.refresh_values()
 

@@ -82,6 +82,7 @@ class CircuitCanvas(QGraphicsView):
         self.rng = random.Random()
         self.scene_.selectionChanged.connect(self._emit_selection)
         self.scene_.hovered.connect(self.status_message)
+        self.scene_.rebuilt.connect(self.fit_to_view)
         self.scene_.weight_scale_changed.connect(lambda _s: self.viewport().update())
         self.actions_ = self._make_actions()
         # a fixed, very large scene: growing it as units move would make the view jump mid-drag
