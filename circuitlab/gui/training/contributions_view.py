@@ -23,7 +23,10 @@ class ContributionsView(QWidget):
         self.plot.setMenuEnabled(False)
         self.plot.hideButtons()
         self.plot.setLabel("bottom", "time step")
-        self.plot.setLabel("left", "y(t-1)·δ(t)")
+        # plain numbers: a short panel has no room for an axis title carrying a scale factor
+        self.plot.getAxis("left").enableAutoSIPrefix(False)
+        self.plot.getAxis("left").setToolTip("contribution y_source(t-1) * delta_target(t), summed over "
+                                             "the training sequences")
         self.bars = pg.BarGraphItem(x=[], height=[], width=0.8, brush=style.POSITIVE, pen=None)
         self.plot.addItem(self.bars)
         self.plot.addLine(y=0, pen=pg.mkPen(style.FOREGROUND, width=1))

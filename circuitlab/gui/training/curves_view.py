@@ -61,7 +61,7 @@ class CurvesView(QWidget):
         self.graphics.ci.layout.setRowStretchFactor(0, 3)
         self.graphics.ci.layout.setRowStretchFactor(1, 2)
         for plot in (self.enorm_plot, self.grad_plot, self.rate_plot):
-            plot.getAxis("left").setWidth(40)
+            plot.getAxis("left").setWidth(50)
         for plot in (self.loss_plot, self.enorm_plot, self.grad_plot, self.rate_plot):
             plot.getAxis("left").setStyle(maxTextLevel=0, autoExpandTextSpace=False)  # no crowded minor labels
             plot.getAxis("bottom").setStyle(maxTextLevel=0)

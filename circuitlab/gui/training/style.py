@@ -89,7 +89,18 @@ class TidyLogAxis(pg.AxisItem):
             return [(1.0, decades), (None, between)]
         if len(decades) + len(between) >= 2:
             return [(None, sorted(decades + between))]
-        return super().logTickValues(minVal, maxVal, size, stdTicks)  # a narrow range: pyqtgraph's own
+        # a narrow range: up to four round values of the quantity itself
+        lo, hi = 10.0 ** minVal, 10.0 ** maxVal
+        step = 10.0 ** np.floor(np.log10((hi - lo) / 3))
+        for factor in (1, 2, 5, 10):
+            if (hi - lo) / (step * factor) <= 4:
+                step *= factor
+                break
+        values = np.arange(np.ceil(lo / step) * step, hi, step)
+        return [(None, list(np.log10(values[values > 0])))]
+
+    def logTickStrings(self, values, scale, spacing):
+        return [f"{10.0 ** v * scale:.3g}" for v in values]
 
 
 def fit_name_axis(axis: pg.AxisItem, names: list[str]) -> None:
