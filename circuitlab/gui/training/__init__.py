@@ -97,7 +97,7 @@ def setup(window) -> TrainingSetup:
                                                       activity.export_table),
                                      "Activity Stack", "training_activity", bottom)
     curves_dock = window.add_panel(view_with_export(curves, "learning curves", lambda: curves.graphics.ci,
-                                                    curves.export_table),
+                                                    curves.export_table, {"e by step": curves.export_e_norm}),
                                    "Learning Curves", "training_curves", bottom)
     for dock in (unrolled_dock, window.panel("schedule_grid"), activity_dock, curves_dock):
         if dock is not None:  # one row, left to right

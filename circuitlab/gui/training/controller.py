@@ -17,7 +17,7 @@ next epoch.
 
 import time
 
-from PySide6.QtCore import QCoreApplication, QEvent, QObject, QTimer, Signal
+from PySide6.QtCore import QCoreApplication, QObject, QTimer, Signal
 
 from circuitlab.engine import EngineError, Trainer
 from circuitlab.gui.document import Document

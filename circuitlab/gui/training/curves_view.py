@@ -161,4 +161,5 @@ class CurvesView(QWidget):
         return list(self.COLUMNS), rows
 
     def export_e_norm(self) -> tuple[list[str], list[list]]:
+        """CSV rows: the latest epoch's norm of e(t) at each step."""
         return ["step", "e_norm"], [[t, float(v)] for t, v in enumerate(self.e_norm)]

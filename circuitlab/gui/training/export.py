@@ -46,11 +46,13 @@ def write_csv(path: str | Path, header: list[str], rows: list[list]) -> None:
         out.writerows([repr(v) if isinstance(v, float) else v for v in row] for row in rows)
 
 
-def export_button(parent, name: str, item_of, table_of) -> QToolButton:
+def export_button(parent, name: str, item_of, table_of, more_tables: dict | None = None) -> QToolButton:
     """A small "Export" button with PNG / SVG / CSV entries for one view.
 
     ``item_of()`` returns the pyqtgraph item to draw, ``table_of()`` returns
-    ``(header, rows)``; both are called at export time so they see the latest data.
+    ``(header, rows)``; both are called at export time so they see the latest
+    data. ``more_tables`` maps a label to another ``table_of`` (a view with
+    several plots offers each plot's numbers).
     """
     button = QToolButton(parent)
     button.setText("Export")
@@ -59,9 +61,10 @@ def export_button(parent, name: str, item_of, table_of) -> QToolButton:
     menu = QMenu(button)
     stem = name.replace(" ", "_")
 
-    def save(kind: str) -> None:
+    def save(kind: str, table=table_of, suffix: str = "") -> None:
         filters = {"png": "PNG image (*.png)", "svg": "SVG drawing (*.svg)", "csv": "CSV table (*.csv)"}
-        path, _ = QFileDialog.getSaveFileName(parent, f"Export {name}", f"{stem}.{kind}", filters[kind])
+        path, _ = QFileDialog.getSaveFileName(parent, f"Export {name}", f"{stem}{suffix}.{kind}",
+                                              filters[kind])
         if not path:
             return
         try:
@@ -70,11 +73,14 @@ def export_button(parent, name: str, item_of, table_of) -> QToolButton:
             elif kind == "svg":
                 export_svg(item_of(), path)
             else:
-                write_csv(path, *table_of())
+                write_csv(path, *table())
         except OSError as exc:
             QMessageBox.warning(parent, f"Export {name}", f"Could not write {path}: {exc.strerror or exc}")
 
     for kind, label in (("png", "Picture (PNG)..."), ("svg", "Drawing (SVG)..."), ("csv", "Data (CSV)...")):
         menu.addAction(label, lambda k=kind: save(k))
+    for label, table in (more_tables or {}).items():
+        menu.addAction(f"Data: {label} (CSV)...",
+                       lambda t=table, l=label: save("csv", t, "_" + l.replace(" ", "_")))
     button.setMenu(menu)
     return button

@@ -13,7 +13,7 @@ from PySide6.QtWidgets import (QComboBox, QFrame, QHBoxLayout, QLabel, QProgress
 
 from circuitlab.gui.training.activity_view import ActivityView
 from circuitlab.gui.training.contributions_view import ContributionsView
-from circuitlab.gui.training.controller import PAUSED, READY, RUNNING, TrainingController
+from circuitlab.gui.training.controller import PAUSED, RUNNING, TrainingController
 from circuitlab.gui.training.curves_view import CurvesView
 from circuitlab.gui.training.export import export_button
 from circuitlab.gui.training.settings_panel import SettingsPanel
@@ -220,7 +220,7 @@ class TrainingViews(QObject):
             self.status.rate.setText("")
 
 
-def view_with_export(view: QWidget, name: str, item_of, table_of) -> QWidget:
+def view_with_export(view: QWidget, name: str, item_of, table_of, more_tables=None) -> QWidget:
     """``view`` with a small Export button in its top right corner."""
     box = QWidget()
     layout = QVBoxLayout(box)
@@ -229,7 +229,7 @@ def view_with_export(view: QWidget, name: str, item_of, table_of) -> QWidget:
     bar = QHBoxLayout()
     bar.setContentsMargins(4, 0, 4, 0)
     bar.addStretch(1)
-    bar.addWidget(export_button(box, name, item_of, table_of))
+    bar.addWidget(export_button(box, name, item_of, table_of, more_tables))
     layout.addLayout(bar)
     layout.addWidget(view, 1)
     return box

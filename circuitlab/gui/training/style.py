@@ -11,7 +11,6 @@ from PySide6.QtGui import QColor, QFont
 
 BACKGROUND = "#ffffff"
 FOREGROUND = "#303030"
-GRID_ALPHA = 0.15
 POSITIVE = QColor("#c0392b")    # excitatory (positive) weights
 NEGATIVE = QColor("#2471a3")    # inhibitory (negative) weights
 HIGHLIGHT = QColor("#f0a202")   # selection: amber, apart from both weight colours

@@ -109,9 +109,6 @@ class TrainingWorker(QThread):
     def choose_sequence(self, name: str) -> None:
         self._send("sequence", name)
 
-    def request_snapshot(self) -> None:
-        self._send("snapshot")
-
     def acknowledge(self, cost: float) -> None:
         """The GUI has drawn the last snapshot, which took it ``cost`` seconds.
 
@@ -180,8 +177,6 @@ class TrainingWorker(QThread):
                     want_snapshot = True
                 elif kind == "sequence":
                     self._sequence, want_snapshot = cmd[1], True
-                elif kind == "snapshot":
-                    want_snapshot = True
             if self._running or self._steps:
                 if self._train_one():
                     continue  # diverged: already reported
