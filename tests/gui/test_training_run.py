@@ -231,3 +231,29 @@ def test_screenshot_after_training(isolated_settings, examples_dir, tmp_path):
     assert trained == [(True, 25)]  # the run finished and the curves hold its 25 epochs
     image = QImage(str(out))
     assert (image.width(), image.height()) == (1200, 800)
+
+
+def test_reinitialise_is_seeded_and_undoable(qtbot, make_main_window, long_latch):
+    win = make_main_window(long_latch)
+    t = win.training
+    weights = lambda: [c.weight for c in win.document.circuit.connections]  # noqa: E731
+    original = weights()
+    qtbot.mouseClick(t.panel.buttons["reinit"], Qt.LeftButton)
+    first = weights()
+    assert first != original
+    assert win.document.undo_stack.text(0) == f"Re-initialise weights (seed {long_latch.training.seed})"
+    qtbot.mouseClick(t.panel.buttons["reinit"], Qt.LeftButton)
+    assert weights() == first  # the same seed draws the same weights
+    win.document.undo_stack.undo()
+    win.document.undo_stack.undo()
+    assert weights() == original
+    # training starts from the re-initialised values: its first loss is theirs
+    win.document.undo_stack.redo()
+    from circuitlab.engine import loss_value
+    full = compile_circuit(win.document.circuit)
+    train = full.subset([i for i, h in enumerate(full.held_out) if not h])
+    params = train.parameters_from_circuit()
+    expected = loss_value(train, forward(train, params), long_latch.training.loss)
+    qtbot.mouseClick(t.panel.buttons["step"], Qt.LeftButton)
+    qtbot.waitUntil(lambda: t.curves.epochs == 1)
+    assert t.curves.column("loss")[0] == pytest.approx(expected, rel=1e-12)
