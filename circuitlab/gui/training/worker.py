@@ -23,6 +23,9 @@ from circuitlab.gui.training.values import apply_parameters
 from circuitlab.model import Circuit
 
 
+DRAW_SHARE = 0.2  # the largest share of the time the window may spend drawing snapshots
+
+
 @dataclass(frozen=True)
 class Inspection:
     """What the views draw for the chosen sequence, at one set of parameters."""
@@ -118,7 +121,7 @@ class TrainingWorker(QThread):
         """
         with self._lock:
             self._acked = True
-            self._interval = max(1.0 / self._max_rate, 4.0 * cost)
+            self._interval = max(1.0 / self._max_rate, cost * (1.0 - DRAW_SHARE) / DRAW_SHARE)
             self._lock.notify()
 
     # ------------------------------------------------------------ the thread
