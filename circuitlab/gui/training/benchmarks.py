@@ -5,7 +5,7 @@ Measured offscreen on this machine:
   updating) as a fraction of the headless trainer (what ``circuitlab train``
   runs) on the same circuit and number of epochs (goal: at least 70 %);
 - the longest pause of the event loop while training (goal: under 100 ms),
-  from a 5 ms timer's ticks;
+  from a 5 ms timer's ticks (in runs of their own: the timer slows training);
 - the unrolled view's draw time for 50 units by 200 steps (goal: under 0.5 s).
 """
 
@@ -45,8 +45,12 @@ def headless_rate(circuit) -> float:
     return EPOCHS / (time.perf_counter() - t0)
 
 
-def window_rate(app, circuit) -> tuple[float, float, int, float]:
-    """(epochs per second, longest event-loop gap in s, view updates, seconds) for EPOCHS epochs in the window."""
+def window_rate(app, circuit, meter: bool = False) -> tuple[float, float, int, float]:
+    """(epochs per second, longest event-loop gap in s, view updates, seconds) for EPOCHS epochs in the window.
+
+    With ``meter`` a 5 ms timer measures the longest gap between its ticks; its own Python
+    calls slow training by several per cent, so throughput is measured without it.
+    """
     from PySide6.QtCore import QElapsedTimer, QEventLoop, QTimer
 
     from circuitlab.gui.main_window import MainWindow
@@ -79,7 +83,8 @@ def window_rate(app, circuit) -> tuple[float, float, int, float]:
         timer.timeout.connect(tick)
         updates0 = t.views.updates
         clock.start()
-        timer.start()
+        if meter:
+            timer.start()
         loop = QEventLoop()
         t.controller.state_changed.connect(lambda state: state != RUNNING and loop.quit())
         finished = []
@@ -142,8 +147,8 @@ def run(rounds: int = 3) -> list[dict]:
         window.append(window_rate(app, _circuit()))
     headless = statistics.median(headless)
     gui = statistics.median(w[0] for w in window)
-    gap = max(w[1] for w in window)
     rate = statistics.median(w[2] / w[3] for w in window)
+    gap = max(window_rate(app, _circuit(), meter=True)[1] for _ in range(2))
     draw, n_conns = unrolled_draw_time(app)
     return [
         {"name": f"headless training, latch example ({EPOCHS} epochs, median)", "value": headless,
@@ -152,7 +157,7 @@ def run(rounds: int = 3) -> list[dict]:
          "goal": "reference"},
         {"name": "window throughput / headless", "value": 100.0 * gui / headless, "unit": "%",
          "goal": ">= 70"},
-        {"name": f"longest event-loop pause while training ({rounds} runs)", "value": 1000.0 * gap,
+        {"name": "longest event-loop pause while training (2 runs)", "value": 1000.0 * gap,
          "unit": "ms", "goal": "< 100"},
         {"name": "view updates per second while training", "value": rate, "unit": "1/s",
          "goal": "<= 30"},

@@ -23,7 +23,7 @@ from circuitlab.gui.training.values import apply_parameters
 from circuitlab.model import Circuit
 
 
-DRAW_SHARE = 0.2  # the largest share of the time the window may spend drawing snapshots
+DRAW_SHARE = 0.15  # the largest share of the time the window may spend drawing snapshots
 
 
 @dataclass(frozen=True)
@@ -117,7 +117,7 @@ class TrainingWorker(QThread):
 
         The worker waits for this before training on, so drawing never competes
         with training for the interpreter lock (the window stays responsive), and
-        it spaces snapshots so drawing takes at most a fifth of the time.
+        it spaces snapshots so drawing takes at most DRAW_SHARE of the time.
         """
         with self._lock:
             self._acked = True
