@@ -170,3 +170,19 @@ def test_snapping_and_tied_weights_and_the_problem_count(make_main_window, qtbot
     doc.push(SetUnitFields(doc, ["b"], "sign", "inhibitory"))
     assert win.check_problems()
     assert "problem" in win.problems_label.text() and "inhibitory" in win.problems_label.toolTip()
+
+
+def test_context_menu_freezes_a_connection(make_main_window, qtbot):
+    win = make_main_window(small())
+    qtbot.wait(50)
+    canvas = win.canvas
+    item = canvas.circuit_scene.edges[("a", "b")]
+    menu = canvas.context_menu(canvas.mapFromScene(item.path.pointAtPercent(0.5)))
+    texts = [x.text() for x in menu.actions() if x.text()]
+    assert texts[0] == "Freeze Weight" and "Delete" in texts
+    assert canvas.circuit_scene.selected_connections() == [("a", "b")]
+    menu.actions()[0].trigger()
+    assert not win.document.circuit.connection("a", "b").trains
+    assert canvas.circuit_scene.edges[("a", "b")].frozen
+    menu = canvas.context_menu(canvas.mapFromScene(QPointF(50, 300)))  # empty canvas
+    assert "Add Unit Here" in [x.text() for x in menu.actions()]

@@ -21,7 +21,7 @@ from circuitlab.gui.canvas import style
 from circuitlab.gui.canvas.items import ConnectionItem, UnitItem
 from circuitlab.gui.canvas.legend import draw_legend, legend_size
 from circuitlab.gui.canvas.scene import CircuitScene
-from circuitlab.gui.commands import AddUnits, ConnectUnits, MoveUnits, RemoveItems
+from circuitlab.gui.commands import AddUnits, ConnectUnits, MoveUnits, RemoveItems, SetConnectionFields
 from circuitlab.gui.commands.arrange import arrange_positions
 from circuitlab.gui.document import Document
 from circuitlab.model import Connection, ModelError, Unit, UnitSchedule
@@ -407,12 +407,25 @@ class CircuitCanvas(QGraphicsView):
         super().focusOutEvent(event)
 
     def contextMenuEvent(self, event) -> None:
-        pos = self.mapToScene(event.pos())
-        item = self.itemAt(event.pos())
+        self.context_menu(event.pos()).exec(event.globalPos())
+
+    def context_menu(self, at) -> QMenu:
+        """The menu for viewport point ``at``: for the unit or connection there, or for the canvas."""
+        pos = self.mapToScene(at)
+        item = self.itemAt(at)
         if isinstance(item, (UnitItem, ConnectionItem)) and not item.isSelected():
             self.scene_.select(*(([item.name], []) if isinstance(item, UnitItem) else ([], [item.key])))
         menu = QMenu(self)
         a = self.actions_
+        if isinstance(item, UnitItem):
+            menu.addAction("Rename…", lambda: self.unit_activated.emit(item.name))
+            menu.addSeparator()
+        elif isinstance(item, ConnectionItem):
+            keys = self.scene_.selected_connections()
+            frozen = all(not self.document.circuit.connection(*k).trains for k in keys)
+            menu.addAction("Let Weight Train" if frozen else "Freeze Weight",
+                           lambda: self.document.push(SetConnectionFields(self.document, keys, "trains", frozen)))
+            menu.addSeparator()
         if isinstance(item, (UnitItem, ConnectionItem)):
             for key in (("cut", "copy", "duplicate", None) if isinstance(item, UnitItem) else ()) + ("delete",):
                 menu.addSeparator() if key is None else menu.addAction(a[key])
@@ -422,7 +435,7 @@ class CircuitCanvas(QGraphicsView):
             menu.addSeparator()
             for key in ("select_all", "arrange", "fit"):
                 menu.addAction(a[key])
-        menu.exec(event.globalPos())
+        return menu
 
     # ---------------------------------------------------- drawing connections
     def _start_connection(self, unit: UnitItem, pos: QPointF) -> None:
