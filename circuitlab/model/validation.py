@@ -53,7 +53,7 @@ def _check_units(circuit: Circuit, out: list[Problem]) -> None:
 
 
 def _check_connections(circuit: Circuit, out: list[Problem]) -> None:
-    names = set(circuit.unit_names())
+    names = {u.name: u for u in circuit.units}  # one look-up table: circuits reach thousands of connections
     seen: set[tuple[str, str]] = set()
     for i, c in enumerate(circuit.connections):
         for end in ("source", "target"):
@@ -66,7 +66,7 @@ def _check_connections(circuit: Circuit, out: list[Problem]) -> None:
         if not math.isfinite(c.weight):
             out.append(Problem(f"connections[{i}].weight", "must be a finite number"))
         elif c.source in names:
-            sign = circuit.unit(c.source).sign
+            sign = names[c.source].sign
             if sign == "excitatory" and c.weight < 0:
                 out.append(Problem(f"connections[{i}].weight",
                                    f"'{c.source}' is excitatory, so its weights must be >= 0"))
@@ -81,7 +81,7 @@ def _check_connections(circuit: Circuit, out: list[Problem]) -> None:
         if len({m.trains for m in members}) > 1:
             out.append(Problem(f"connections[{i}].tie", f"tie group '{group}': some members train "
                                "and some are frozen, but tied connections share one parameter"))
-        signs = {circuit.unit(m.source).sign for m in members if m.source in names} - {None}
+        signs = {names[m.source].sign for m in members if m.source in names} - {None}
         if len(signs) > 1:
             out.append(Problem(f"connections[{i}].tie", f"tie group '{group}' joins excitatory "
                                "and inhibitory connections"))
