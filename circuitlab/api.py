@@ -190,6 +190,11 @@ class GradientResult:
     backward: Backward
 
     @property
+    def unit_names(self) -> list[str]:
+        """The units in the order of the arrays' unit axes."""
+        return list(self.compiled.unit_names)
+
+    @property
     def W(self) -> np.ndarray:
         return self.grads.W
 

@@ -136,4 +136,4 @@ def arrange_docks(window, width: int, height: int) -> None:
         window.resizeDocks([docks[1]], [int(height * 0.42)], Qt.Vertical)
     stack = [window.panel(n) for n in ("training_unrolled", "training_contributions")]
     if all(stack):
-        window.resizeDocks(stack, [int(height * 0.27), int(height * 0.15)], Qt.Vertical)
+        window.resizeDocks(stack, [int(height * 0.23), int(height * 0.19)], Qt.Vertical)
