@@ -279,7 +279,7 @@ def onset_detector() -> Circuit:
     rng = np.random.default_rng(6)
     length = 20
     for i in range(8):
-        row, t, on = [], 0, bool(rng.integers(0, 2))
+        row, on = [], bool(rng.integers(0, 2))
         while len(row) < length + 1:
             row += [float(on)] * int(rng.integers(2, 6))
             on = not on

@@ -42,7 +42,8 @@ def benchmark_circuit(n: int, steps: int, sequences: int, density: float = 0.3, 
     return c
 
 
-def _best_of(fn, repeats: int) -> float:
+def best_of(fn, repeats: int) -> float:
+    """The shortest of ``repeats`` timings of ``fn()``, in seconds (the least disturbed run)."""
     best = float("inf")
     for _ in range(repeats):
         t = time.perf_counter()
@@ -56,8 +57,8 @@ def run() -> list[dict]:
     comp = compile_circuit(benchmark_circuit(50, 200, 16))
     params = comp.parameters_from_circuit()
     act = forward(comp, params)
-    t_fwd = _best_of(lambda: forward(comp, params), 10)
-    t_bwd = _best_of(lambda: backward(comp, params, act), 10)
+    t_fwd = best_of(lambda: forward(comp, params), 10)
+    t_bwd = best_of(lambda: backward(comp, params, act), 10)
     out.append({"name": "forward, 50 units x 200 steps x 16 seq.", "value": t_fwd * 1e3,
                 "unit": "ms", "goal": "< 10 ms"})
     out.append({"name": "backward (BPTT), 50 units x 200 steps x 16 seq.", "value": t_bwd * 1e3,

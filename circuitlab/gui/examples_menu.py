@@ -126,10 +126,8 @@ class ExamplesMenu(QObject):
         files = self.window.files
         if ask and not files.maybe_save():
             return False
-        try:
-            circuit = load_circuit(path)
-        except CircuitFileError as exc:
-            files.show_error("The example cannot be opened", str(exc))
+        circuit = files.read_circuit(path, "The example cannot be opened")
+        if circuit is None:
             return False
         self._opening = True
         try:

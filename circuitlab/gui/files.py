@@ -88,14 +88,20 @@ class FileController(QObject):
         path = self.choose_open_path()
         return bool(path) and self.open_path(path, ask=False)
 
+    def read_circuit(self, path: str | Path, title: str) -> Circuit | None:
+        """The circuit in ``path``, or None after showing the validator's message under ``title``."""
+        try:
+            return load_circuit(path)
+        except CircuitFileError as exc:
+            self.show_error(title, str(exc))
+            return None
+
     def open_path(self, path: str, ask: bool = True) -> bool:
         """Load ``path``; on a bad file show the validator's message and keep the current document."""
         if ask and not self.maybe_save():
             return False
-        try:
-            circuit = load_circuit(path)
-        except CircuitFileError as exc:
-            self.show_error("The file cannot be opened", str(exc))
+        circuit = self.read_circuit(path, "The file cannot be opened")
+        if circuit is None:
             return False
         self.document.replace(circuit, str(Path(path).resolve()))
         self._remember(self.document.path)

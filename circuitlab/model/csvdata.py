@@ -26,11 +26,11 @@ import io
 import math
 import os
 import re
-import tempfile
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Iterable
 
+from circuitlab.model.atomic import write_atomic
 from circuitlab.model.base import UNIT_NAME_PATTERN
 from circuitlab.model.sequences import Sequence
 
@@ -194,20 +194,7 @@ def read_csv_file(path: str | os.PathLike, unit_names: Iterable[str] | None = No
 
 def write_csv_file(path: str | os.PathLike, text: str) -> None:
     """Write CSV text atomically (temporary file beside it, fsync, rename)."""
-    path = Path(path)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent or ".")
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
-            fh.write(text)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.replace(tmp, path)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except FileNotFoundError:
-            pass
-        raise
+    write_atomic(path, text.encode("utf-8"))
 
 
 def circuit_csv(circuit) -> str:

@@ -12,7 +12,6 @@ the old file intact.
 import json
 import os
 import re
-import secrets
 import stat
 from pathlib import Path
 
@@ -21,6 +20,7 @@ import pydantic
 from circuitlab.model.circuit import FORMAT_NAME, FORMAT_VERSION, Circuit
 from circuitlab.model.csvdata import (SequenceCsvError, load_sequences_file, save_sequences_file,
                                       sequences_file_path)
+from circuitlab.model.atomic import write_atomic
 from circuitlab.model.errors import CircuitFileError, ModelError, join_path
 
 MAX_FILE_BYTES = 50 * 1024 * 1024
@@ -144,59 +144,6 @@ def _utf8(text: str) -> bytes:
     except UnicodeEncodeError as exc:  # a lone surrogate put in by a script
         raise ModelError("the circuit cannot be saved: it holds text that is not valid Unicode "
                          f"near {text[max(0, exc.start - 30):exc.start]!r}") from exc
-
-
-def write_atomic(path: str | os.PathLike, data: bytes) -> None:
-    """Replace the file at ``path`` with ``data`` so that it is never half-written.
-
-    The bytes go to a temporary file in the same directory, are flushed to
-    disk, and the temporary file is renamed over the target (an atomic step
-    on one file system). An existing file keeps its permissions; a symbolic
-    link is followed, not replaced. If anything fails, the old file is
-    untouched and the temporary file is removed.
-    """
-    target = Path(os.path.realpath(path))
-    try:
-        mode = stat.S_IMODE(os.stat(target).st_mode)
-    except FileNotFoundError:
-        mode = None
-    while True:
-        tmp = target.parent / f".{target.name}.{secrets.token_hex(4)}.tmp"
-        try:
-            # 0o666 is narrowed by the umask, as for any newly created file.
-            fd = os.open(tmp, os.O_WRONLY | os.O_CREAT | os.O_EXCL | getattr(os, "O_BINARY", 0), 0o666)
-            break
-        except FileExistsError:
-            continue
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            fh.write(data)
-            fh.flush()
-            os.fsync(fh.fileno())
-        if mode is not None:
-            os.chmod(tmp, mode)
-        os.replace(tmp, target)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except FileNotFoundError:
-            pass
-        raise
-    _fsync_directory(target.parent)
-
-
-def _fsync_directory(directory: Path) -> None:
-    """Make the rename itself durable (POSIX); a no-op where directories cannot be opened."""
-    try:
-        fd = os.open(directory, os.O_RDONLY)
-    except OSError:
-        return
-    try:
-        os.fsync(fd)
-    except OSError:
-        pass
-    finally:
-        os.close(fd)
 
 
 def json_schema() -> dict:

@@ -2,16 +2,9 @@
 
 import time
 
+from circuitlab.engine.benchmarks import best_of
+
 SIZE_UNITS, SIZE_STEPS, SEQUENCES = 50, 500, 4
-
-
-def _best(fn, repeat: int = 3) -> float:
-    best = float("inf")
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        fn()
-        best = min(best, time.perf_counter() - t0)
-    return best
 
 
 def run() -> list[dict]:
@@ -40,8 +33,8 @@ def run() -> list[dict]:
     panel.resize(1400, 800)
     panel.show()
     app.processEvents()
-    refresh = _best(panel.refresh)
-    paint = _best(lambda: panel.view.viewport().grab())
+    refresh = best_of(panel.refresh, 3)
+    paint = best_of(lambda: panel.view.viewport().grab(), 3)
     block = "\n".join("\t".join("0.5" for _ in range(SIZE_STEPS)) for _ in range(SIZE_UNITS))
     panel.view.setCurrentIndex(panel.model.index(0, 0))
 
