@@ -11,13 +11,23 @@ BEFORE_SCREENSHOT: list[str] = ["circuitlab.gui.training.screenshot:train_before
 
 def make_application(argv: list[str] | None = None):
     """The QApplication (made once), named so QSettings and QStandardPaths use 'circuitlab'."""
+    from PySide6.QtCore import qInstallMessageHandler
     from PySide6.QtWidgets import QApplication
 
+    if QApplication.instance() is None:
+        qInstallMessageHandler(_quiet_offscreen_notes)
     app = QApplication.instance() or QApplication(argv if argv is not None else sys.argv[:1])
     app.setOrganizationName("circuitlab")
     app.setApplicationName("circuitlab")
     app.setApplicationDisplayName("circuitlab")
     return app
+
+
+def _quiet_offscreen_notes(mode, context, message: str) -> None:
+    """Pass Qt's messages on to standard error, except the offscreen platform's note that it
+    cannot resize windows to their hints, which it prints on every dock change in screenshot mode."""
+    if message != "This plugin does not support propagateSizeHints()":
+        print(message, file=sys.stderr)
 
 
 def run_editor(args) -> int:

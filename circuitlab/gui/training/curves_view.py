@@ -60,8 +60,10 @@ class CurvesView(QWidget):
         self.rate_plot = self.graphics.addPlot(row=1, col=2)
         self.graphics.ci.layout.setRowStretchFactor(0, 3)
         self.graphics.ci.layout.setRowStretchFactor(1, 2)
-        for plot in (self.enorm_plot, self.grad_plot, self.rate_plot):
-            plot.getAxis("left").setWidth(50)
+        for plot in (self.loss_plot, self.enorm_plot, self.grad_plot, self.rate_plot):
+            # a fixed width that fits labels such as 0.0001 and 1e-05: the axis does not grow
+            # for its labels (below), and a label that does not fit is left out altogether
+            plot.getAxis("left").setWidth(54)
         for plot in (self.loss_plot, self.enorm_plot, self.grad_plot, self.rate_plot):
             plot.getAxis("left").setStyle(maxTextLevel=0, autoExpandTextSpace=False)  # no crowded minor labels
             plot.getAxis("bottom").setStyle(maxTextLevel=0)
