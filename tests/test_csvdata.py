@@ -26,6 +26,7 @@ def test_round_trip_is_exact():
     # the header is the documented scheme, and the file parses with the standard csv module
     rows = list(csv.reader(io.StringIO(text)))  # Python's csv module as the outside reader
     assert rows[0] == ["sequence", "step", "held_out", "clamp:x", "target:y", "target:z"]
+    # shortest text that reads back to the same float: Python's repr (common practice, from memory)
     assert rows[3] == ["a", "2", "", "1e-17", "0.30000000000000004", ""]
     assert rows[5][:3] == ["b, quoted", "0", "1"]
 

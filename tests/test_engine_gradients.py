@@ -128,7 +128,9 @@ def test_bptt_equals_autograd_on_random_circuits(seed):
 
 
 def test_contributions_sum_to_the_connection_gradient():
-    # DESIGN: dE/dw_ij = sum over t of y_i(t-1) delta_j(t).
+    # DESIGN: dE/dw_ij = sum over t of y_i(t-1) delta_j(t). Source: a weight shared by the copies
+    # of an unrolled net gets the sum of their gradients (Rumelhart, Hinton and Williams, 1986;
+    # Werbos, 1990; cited from memory).
     circuit = random_circuit(3)
     comp = compile_circuit(circuit)
     p = comp.parameters_from_circuit()

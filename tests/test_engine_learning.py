@@ -46,7 +46,8 @@ def temporal_xor(triples: int = 8, train: int = 8, held_out: int = 2, seed: int 
 
 
 def test_temporal_xor_is_learned():
-    # Temporal XOR (Elman, 1990): only every third bit is predictable, and only from the two
+    # Temporal XOR (Elman, 1990; the task recalled from memory, thresholds our own): only every
+    # third bit is predictable, and only from the two
     # before it. Stated error: mean cross-entropy per XOR cell <= 0.01 on the training streams,
     # and every XOR bit of the held-out streams within 0.25 of its value.
     c = temporal_xor()

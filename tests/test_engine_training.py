@@ -38,6 +38,8 @@ def constrained_circuit() -> Circuit:
 def test_ties_stay_equal_frozen_unchanged_signs_kept_over_100_epochs():
     # DESIGN constraints: a tie group is one parameter, frozen values never move,
     # sign-constrained weights are projected onto their half-line after each update.
+    # Sources: weight sharing as one parameter (Rumelhart, Hinton and Williams, 1986, from
+    # memory); projection onto the allowed half-line (common practice, projected gradient).
     c = constrained_circuit()
     tr = Trainer(c)
     tr.run()
@@ -82,6 +84,7 @@ def test_training_repeats_bit_for_bit_with_mini_batches():
 
 
 def test_seed_changes_the_mini_batch_order():
+    # Mini-batches in a seeded shuffled order (common practice): another seed, another order.
     losses = []
     for seed in (1, 2):
         c = constrained_circuit()
@@ -95,6 +98,7 @@ def test_seed_changes_the_mini_batch_order():
 
 
 def test_nan_mid_training_stops_and_restores_the_last_finite_parameters(monkeypatch):
+    # Stop on a non-finite value and keep the last finite parameters (common practice).
     c = constrained_circuit()
     tr = Trainer(c)
     for _ in range(5):
@@ -148,6 +152,7 @@ def test_divergence_to_infinity_is_caught():
 
 
 def test_target_loss_stops_training():
+    # Stopping once the loss reaches a set target (common practice).
     c = constrained_circuit()
     c.training.epochs = 1000
     tr = Trainer(c)
@@ -248,6 +253,7 @@ def test_trainer_leaves_the_given_circuit_alone():
 
 def test_adam_first_step_moves_each_parameter_by_the_rate():
     # Kingma and Ba (2015): with bias correction the first step is lr * sign(g) (up to epsilon).
+    # The update rule is recalled from memory of the paper's algorithm.
     opt = Adam(3)
     theta = opt.step(np.zeros(3), np.array([2.0, -0.001, 5.0]), 0.1)
     np.testing.assert_allclose(theta, [-0.1, 0.1, -0.1], rtol=1e-4)
@@ -261,6 +267,8 @@ def test_clipping_by_global_norm():
 
 
 def test_e_norm_of_record_matches_backward():
+    # Euclidean norm of e(t) over units and training sequences, per step, as used to watch
+    # vanishing and exploding derivatives (Pascanu, Mikolov and Bengio, 2013, from memory).
     c = random_circuit(6, loss="squared")
     c.training.optimizer = "sgd"
     tr = Trainer(c)
@@ -306,6 +314,7 @@ def test_sgd_step_with_weight_decay_follows_the_penalised_gradient():
 
 
 def test_step_rate_schedule():
+    # Step decay: rate * factor ** (epoch // every) (common practice); 0.05 is the test circuit's rate.
     c = constrained_circuit()
     c.training.rate_schedule = "step"
     c.training.rate_step_every = 3

@@ -42,6 +42,7 @@ def latch() -> Circuit:
 @GRAPH
 @given(circuits(values=ANY_FINITE))
 def test_networkx_round_trip(circuit):
+    # Reference library: networkx (the circuit's graph part survives a DiGraph round trip).
     assert graph_part(from_networkx(to_networkx(circuit))) == graph_part(circuit)
 
 
@@ -53,7 +54,7 @@ def test_graphml_round_trip_preserves_weights_and_attributes(tmp_path, circuit):
     write_graphml(circuit, path)
     back = read_graphml(path)
     assert graph_part(back) == graph_part(circuit)
-    # networkx's own reader sees the same weights, bit for bit
+    # reference library: networkx's own GraphML reader sees the same weights, bit for bit
     g = nx.read_graphml(path)
     for c in circuit.connections:
         assert g.edges[c.source, c.target]["weight"] == c.weight

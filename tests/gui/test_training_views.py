@@ -84,6 +84,7 @@ def test_contributions_sum_to_the_gradient(qtbot, latch):
     i, j = compiled.unit_index(a), compiled.unit_index(b)
     view.set_contributions(a, b, values, float(grads.W[i, j]))
     # BPTT: a shared weight's gradient is the sum of its copies' contributions
+    # (Rumelhart, Hinton and Williams, 1986, cited from memory)
     assert view.total == pytest.approx(grads.W[i, j], rel=1e-10, abs=1e-14)
     # ... and that gradient agrees with central finite differences of the loss (common practice)
     h = 1e-6
