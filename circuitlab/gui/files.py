@@ -14,7 +14,7 @@ import time
 import uuid
 from pathlib import Path
 
-from PySide6.QtCore import QLockFile, QObject, QSettings, QStandardPaths, QTimer
+from PySide6.QtCore import QLockFile, QObject, QSettings, QStandardPaths, QTimer, Signal
 from PySide6.QtGui import QAction, QKeySequence
 from PySide6.QtWidgets import QFileDialog, QMenu, QMessageBox
 
@@ -32,6 +32,9 @@ def default_autosave_dir() -> Path:
 
 class FileController(QObject):
     """The window's file commands; owns the autosave timer and this session's lock."""
+
+    # emitted (direct) before unsaved changes are judged: a live training run makes itself an undo step
+    settle_requested = Signal()
 
     def __init__(self, window, autosave_dir: str | os.PathLike | None = None):
         super().__init__(window)
@@ -143,6 +146,7 @@ class FileController(QObject):
 
     def maybe_save(self) -> bool:
         """Ask about unsaved changes; False means the user cancelled."""
+        self.settle_requested.emit()
         if not self.document.is_modified:
             return True
         answer = self.ask_save_changes()

@@ -258,3 +258,37 @@ def test_reinitialise_is_seeded_and_undoable(qtbot, make_main_window, long_latch
     qtbot.mouseClick(t.panel.buttons["step"], Qt.LeftButton)
     qtbot.waitUntil(lambda: t.curves.epochs == 1)
     assert t.curves.column("loss")[0] == pytest.approx(expected, rel=1e-12)
+
+
+def test_a_live_run_counts_as_unsaved_work(qtbot, make_main_window, long_latch, tmp_path):
+    """New and Close while training ask about the trained weights; a cancelled close keeps the run."""
+    from circuitlab.model import save_circuit
+    path = tmp_path / "latch.circuit.json"
+    save_circuit(long_latch, path)
+    win = make_main_window(path)
+    asked = []
+    win.files.ask_save_changes = lambda: asked.append(win.document.undo_stack.undoText()) or "cancel"
+    t = win.training
+    qtbot.waitUntil(lambda: t.controller.state == READY and t.controller.snapshot is not None)
+    qtbot.mouseClick(t.panel.buttons["train"], Qt.LeftButton)
+    qtbot.waitUntil(lambda: t.curves.epochs >= 10, timeout=20_000)
+    assert not win.document.is_modified  # no undo step yet: the run is still going
+    win.activateWindow()
+    qtbot.keyClick(win, Qt.Key_N, Qt.ControlModifier)
+    assert asked and asked[-1].startswith("Train ")  # the run was pushed before the question
+    assert win.document.path == str(path.resolve())  # cancelled: the trained circuit stays
+    qtbot.waitUntil(lambda: t.controller.state == PAUSED and t.controller.worker is not None)
+    qtbot.mouseClick(t.panel.buttons["train"], Qt.LeftButton)
+    qtbot.waitUntil(lambda: t.controller.run_epochs >= t.curves.epochs and t.curves.epochs >= 20,
+                    timeout=20_000)
+    n = len(asked)
+    assert not win.close()
+    assert len(asked) == n + 1 and win.isVisible()
+    # the cancelled close paused the run without ending the thread: Train goes on
+    qtbot.waitUntil(lambda: t.controller.state == PAUSED and t.controller.worker is not None)
+    epochs = t.curves.epochs
+    qtbot.mouseClick(t.panel.buttons["train"], Qt.LeftButton)
+    qtbot.waitUntil(lambda: t.curves.epochs > epochs + 3, timeout=20_000)
+    win.files.ask_save_changes = lambda: "discard"
+    assert win.close()
+    assert t.controller.worker is None

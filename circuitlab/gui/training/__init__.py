@@ -36,12 +36,10 @@ class TrainingSetup:
 
 
 class _WindowWatcher(QObject):
-    """Arranges the docks when the window first shows (unless a saved layout exists); stops
-    the training thread when it closes."""
+    """Arranges the docks when the window first shows (unless a saved layout exists)."""
 
-    def __init__(self, controller: TrainingController, window):
+    def __init__(self, window):
         super().__init__(window)
-        self.controller = controller
         self.window = window
         self.arrange = not QSettings().contains("window/state")
 
@@ -50,8 +48,6 @@ class _WindowWatcher(QObject):
             self.arrange = False
             # tabifying before the first show leaves a stray tab bar behind (Qt 6.11), so do it now
             QTimer.singleShot(0, lambda: arrange_docks(self.window, self.window.width(), self.window.height()))
-        elif event.type() == QEvent.Type.Close:
-            self.controller.shutdown()
         return False
 
 
@@ -109,8 +105,12 @@ def setup(window) -> TrainingSetup:
                                           "Contributions per Step", "training_contributions", bottom)
     window.splitDockWidget(unrolled_dock, contributions_dock, Qt.Vertical)
 
-    watcher = _WindowWatcher(controller, window)
+    watcher = _WindowWatcher(window)
     window.installEventFilter(watcher)
+    # a live run becomes an undo step before "save changes?" is asked; the thread stops only
+    # once the window really goes (a cancelled close leaves the run paused, not ended)
+    window.files.settle_requested.connect(controller.settle)
+    window.closing.connect(controller.shutdown)
     app = QApplication.instance()
     if app is not None:
         app.aboutToQuit.connect(controller.shutdown)

@@ -277,9 +277,14 @@ class TrainingController(QObject):
         self._commit()
         self._set_state(IDLE)
 
-    def _structure_edited(self) -> None:
-        if self._own_edit:
-            return
+    def settle(self) -> None:
+        """Pause a running run and push its epochs as an undo step now, so a question about
+        unsaved work (New, Open, Close) sees them; the run can go on with Train."""
+        if self.state == RUNNING:
+            self._pause_and_recompile()
+
+    def _pause_and_recompile(self) -> bool:
+        """End the worker, commit its epochs, compile anew; True if a run was going."""
         was = self.state
         if self.worker is not None:
             self._end_worker()
@@ -288,6 +293,12 @@ class TrainingController(QObject):
         self._prepare_soon()
         if was == RUNNING:
             self._resume_state = PAUSED
+        return was == RUNNING
+
+    def _structure_edited(self) -> None:
+        if self._own_edit:
+            return
+        if self._pause_and_recompile():
             self.message.emit("The circuit's structure changed: training paused and the circuit "
                               "was recompiled. Press Train to continue.", False)
 
@@ -314,6 +325,7 @@ class TrainingController(QObject):
         if self.worker is not None:
             self._end_worker()
         self._run_start = None
+        self._resume_state = None  # a run paused just before (New, Open) does not carry over
         self._new_run = True
         self.epoch_offset = 0
         self.snapshot = None
