@@ -246,8 +246,15 @@ def gradients(circuit: Circuit, sequence: str | None = None, loss: str | None = 
 
 
 def check_gradients(circuit: Circuit, tolerance: float = DEFAULT_TOLERANCE, rtrl: bool = True) -> GradientCheck:
-    """Compare BPTT with finite differences and RTRL at the circuit's values (see engine.gradcheck)."""
+    """Compare BPTT with finite differences and RTRL at the circuit's values (see engine.gradcheck).
+
+    Raises ``EngineError`` when no sequence has a target cell: every gradient
+    is then zero and their agreement would prove nothing.
+    """
     comp = compile_circuit(circuit)
+    if comp.target_cells == 0:
+        raise EngineError("there is nothing to check: no sequence has a target cell "
+                          "(or there are no sequences), so every gradient is zero")
     return gradient_check(comp, comp.parameters_from_circuit(), comp.loss, tolerance, rtrl)
 
 

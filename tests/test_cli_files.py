@@ -121,8 +121,8 @@ def test_info_json(capsys):
 
 
 def test_info_on_broken_file(capsys, broken):
-    code, out, _ = run(capsys, "info", broken)
-    assert code == 1 and "connections[0].weight: must be a number" in out
+    code, _, err = run(capsys, "info", broken)
+    assert code == 1 and "connections[0].weight: must be a number" in err
     code, out, _ = run(capsys, "info", "--json", broken)
     assert code == 1 and json.loads(out) == {"valid": False,
                                              "problems": ["connections[0].weight: must be a number"]}

@@ -1,6 +1,7 @@
 """``validate`` and ``info``: check circuit files and summarise them."""
 
 import argparse
+import sys
 
 from circuitlab.cli.output import emit_json
 from circuitlab.model import CircuitFileError, clamp_mask, find_problems, load_circuit, target_mask
@@ -83,9 +84,9 @@ def run_info(args: argparse.Namespace) -> int:
         if args.json:
             emit_json({"valid": False, "problems": problems})
         else:
-            print(f"{args.file} cannot be read:")
+            print(f"circuitlab: {args.file} cannot be read:", file=sys.stderr)
             for p in problems:
-                print(f"    {p}")
+                print(f"    {p}", file=sys.stderr)
         return 1
     s = summarise(circuit)
     if args.json:

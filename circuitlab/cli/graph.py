@@ -11,7 +11,7 @@ import csv
 import io
 from pathlib import Path
 
-from circuitlab.cli.output import emit_json, error
+from circuitlab.cli.output import destination_problem, emit_json, error
 from circuitlab.model import Circuit, CircuitFileError, ModelError, load_circuit, save_circuit
 from circuitlab.model.fileformat import write_atomic
 from circuitlab.model.graph import read_graphml, write_graphml
@@ -53,6 +53,9 @@ def run_export(args: argparse.Namespace) -> int:
     if suffix not in EXPORT_FORMATS:
         return _fail(args, f"cannot tell the format of '{args.out}': use a name ending in "
                      + " or ".join(EXPORT_FORMATS), code=2)
+    problem = destination_problem(args.out, [args.file])
+    if problem:
+        return _fail(args, problem, code=2)
     try:
         circuit = load_circuit(args.file)
         if suffix == ".graphml":
@@ -76,6 +79,9 @@ def run_export(args: argparse.Namespace) -> int:
 
 
 def run_import_graphml(args: argparse.Namespace) -> int:
+    problem = destination_problem(args.out, [args.graphml])
+    if problem:
+        return _fail(args, problem, code=2)
     if Path(args.out).exists() and not args.force:
         return _fail(args, f"{args.out} exists; pass --force to replace it")
     try:

@@ -3,7 +3,7 @@
 import argparse
 from pathlib import Path
 
-from circuitlab.cli.output import error
+from circuitlab.cli.output import destination_problem, error
 from circuitlab.model import CircuitFileError, ModelError, load_circuit, save_circuit
 from circuitlab.model.csvdata import SequenceCsvError, circuit_csv, read_csv_file, write_csv_file
 
@@ -26,6 +26,10 @@ def register(commands) -> None:
 
 
 def run_export(args: argparse.Namespace) -> int:
+    problem = destination_problem(args.csv, [args.file])
+    if problem:
+        error(problem)
+        return 1
     try:
         circuit = load_circuit(args.file)
         write_csv_file(args.csv, circuit_csv(circuit))
@@ -40,6 +44,10 @@ def run_export(args: argparse.Namespace) -> int:
 
 
 def run_import(args: argparse.Namespace) -> int:
+    problem = destination_problem(args.out or args.file, [args.csv])
+    if problem:
+        error(problem)
+        return 1
     try:
         circuit = load_circuit(args.file)
         sequences = read_csv_file(args.csv, circuit.unit_names())

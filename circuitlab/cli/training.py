@@ -11,9 +11,10 @@ import argparse
 import csv
 import io
 import math
+import os
 import sys
 
-from circuitlab.cli.output import emit_json, error
+from circuitlab.cli.output import destination_problem, emit_json, error
 from circuitlab.engine import EngineError, Trainer
 from circuitlab.engine.gradcheck import DEFAULT_TOLERANCE
 from circuitlab.model import CircuitFileError, ModelError, load_circuit, save_circuit
@@ -78,6 +79,14 @@ def run_train(args: argparse.Namespace) -> int:
     if args.epochs is not None and args.epochs < 1:
         _report(args.json, "--epochs must be at least 1")
         return 2
+    if args.out and args.log and os.path.realpath(args.out) == os.path.realpath(args.log):
+        _report(args.json, "--out and --log name the same file; give each its own")
+        return 2
+    for out in filter(None, (args.out, args.log)):
+        problem = destination_problem(out, [args.file])
+        if problem:
+            _report(args.json, problem)
+            return 2
     if args.seed is not None:
         if not 0 <= args.seed <= 2**32 - 1:
             _report(args.json, "--seed must lie in 0..4294967295")
@@ -116,7 +125,8 @@ def run_train(args: argparse.Namespace) -> int:
             save_circuit(circuit, args.out)
             written.append(args.out)
     except (OSError, ModelError) as exc:
-        _report(args.json, f"cannot write the results: {getattr(exc, 'strerror', None) or exc}")
+        detail = f"{exc.filename} ({exc.strerror})" if isinstance(exc, OSError) and exc.strerror else exc
+        _report(args.json, f"cannot write the results: {detail}; wrote only {', '.join(written) or 'nothing'}")
         return 2
     failed = bool(trainer.history) and not trainer.history[-1].finite
     if args.json:
@@ -167,6 +177,13 @@ def run_run(args: argparse.Namespace) -> int:
     circuit = _load(args.file, False)
     if circuit is None:
         return 2
+    problem = args.csv and destination_problem(args.csv, [args.file])
+    if problem:
+        error(problem)
+        return 2
+    if not circuit.sequences:
+        error(f"{args.file}: has no sequences to run; add some in the editor or with 'sequences import'")
+        return 2
     try:
         result = api.run(circuit, sequence=args.sequence, steps=args.steps, fill=args.fill)
     except EngineError as exc:
@@ -189,6 +206,9 @@ def run_run(args: argparse.Namespace) -> int:
 def run_gradcheck(args: argparse.Namespace) -> int:
     from circuitlab import api
 
+    if not 0 < args.tolerance < math.inf:
+        _report(args.json, "--tolerance must be a positive number")
+        return 2
     circuit = _load(args.file, args.json)
     if circuit is None:
         return 2
