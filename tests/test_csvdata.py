@@ -28,6 +28,7 @@ def test_round_trip_is_exact():
     assert rows[0] == ["sequence", "step", "held_out", "clamp:x", "target:y", "target:z"]
     # shortest text that reads back to the same float: Python's repr (common practice, from memory)
     assert rows[3] == ["a", "2", "", "1e-17", "0.30000000000000004", ""]
+    # a field holding a comma is quoted (RFC 4180, cited from memory)
     assert rows[5][:3] == ["b, quoted", "0", "1"]
 
 

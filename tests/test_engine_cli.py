@@ -113,9 +113,11 @@ def test_api_gradients_contributions_and_unroll():
     c = constrained_circuit()
     g = api.gradients(c)
     i, j = g.compiled.unit_index("h"), g.compiled.unit_index("o")
+    # a shared weight's gradient is the sum of its copies' (Rumelhart, Hinton and Williams, 1986, from memory)
     assert g.contributions("h", "o").sum() == pytest.approx(g.W[i, j], rel=1e-12)
     assert g.e.shape == g.delta.shape == g.y.shape == (4, 6, 3)
     assert len(g.theta_gradient) == len(g.theta_labels)
+    # unrolled over T steps: (T + 1) n nodes and T |E| edges, as networkx.tensor_product with a path gives
     graph = api.unroll(c, steps=5)
     assert graph.number_of_nodes() == 3 * 6 and graph.number_of_edges() == 5 * len(c.connections)
     result = api.train(c, epochs=20)

@@ -50,6 +50,7 @@ def test_round_trip_is_exact(circuit):
 
 
 def test_round_trip_through_a_file_keeps_extreme_floats(tmp_path):
+    # IEEE 754 binary64 limits (handbook facts; here equal to float.fromhex and -sys.float_info.max).
     c = small_circuit()
     c.connection("a", "b").weight = 5e-324        # smallest subnormal
     c.connection("b", "b").weight = -1.7976931348623157e308  # most negative double
@@ -76,6 +77,7 @@ def test_file_starts_with_format_and_version():
 
 
 def test_byte_order_mark_is_accepted():
+    # RFC 8259, section 8.1: a parser may ignore a leading byte order mark (cited from memory).
     text = dumps_circuit(small_circuit())
     assert loads_circuit(b"\xef\xbb\xbf" + text.encode()) == small_circuit()
 

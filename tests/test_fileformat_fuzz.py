@@ -253,6 +253,8 @@ def test_deep_nesting_is_refused(where, depth):
     ("1" * 5000, "is not valid JSON"),  # past Python's limit on digits
 ])
 def test_huge_and_non_finite_numbers_are_refused(literal, reason):
+    # RFC 8259, section 6: NaN and Infinity are not JSON numbers (cited from memory). Python's
+    # limit on integer digits is 4300 by default (sys.get_int_max_str_digits, Python 3.11+).
     text = HEADER + '"units": [{"name": "a"}], "connections": [{"source": "a", "target": "a", ' \
         f'"weight": {literal}}}]}}'
     exc = refused(text)
@@ -287,11 +289,15 @@ def test_huge_and_non_finite_numbers_are_refused(literal, reason):
     (b'{"format": "circuitlab-circuit", "version": 1, "schedule": {"\\udfff": {}}}', "schedule (a key): holds a lone"),
 ])
 def test_bad_encodings_and_headers_are_refused(data, reason):
+    # RFC 8259 (cited from memory): JSON exchanged between systems is UTF-8 (8.1), names in an
+    # object should be unique (4); a lone surrogate is no Unicode character (Unicode standard).
     exc = refused(data)
     assert reason in exc.problems[0], exc.problems
 
 
 def test_a_surrogate_pair_escape_is_fine():
+    # RFC 8259, section 7: a character beyond U+FFFF is escaped as a UTF-16 surrogate pair;
+    # \ud83d\ude00 is U+1F600 (from memory; Python's json module decodes it the same way).
     c = loads_circuit(HEADER + '"description": "\\ud83d\\ude00"}')
     assert c.description == "\U0001F600"
 

@@ -69,7 +69,9 @@ def test_grid_shows_what_the_engine_compiles(grid, qtbot):
     c.sequences[1].set_target("report", 2, 1.0)
     grid.document.notify("data")
     settle(qtbot, grid)
-    compiled = compile_circuit(c)  # the engine's own masks, compared cell by cell
+    # the engine's own masks, compared cell by cell (the engine itself is checked against the
+    # autograd reference in tests/test_engine_gradients.py)
+    compiled = compile_circuit(c)
     for s, seq in enumerate(c.sequences):
         grid.set_sequence(seq.name)
         assert grid.model.sequence_name == seq.name
