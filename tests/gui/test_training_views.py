@@ -160,3 +160,37 @@ def test_curves_plot_engine_records_and_export(qtbot, examples_dir, tmp_path):
     lines = csv_path.read_text().splitlines()
     assert lines[0].split(",") == list(CurvesView.COLUMNS) and len(lines) == 13
     assert float(lines[1].split(",")[1]) == records[0].loss  # full precision survives the file
+
+
+def test_curve_axes_keep_their_epoch_labels_apart_and_inside(qtbot, examples_dir):
+    """In a narrow dock all four plots stay in sight, the small plots' epoch labels do not touch,
+    and the loss plot's last one is not cut by the window's edge."""
+    from PySide6.QtGui import QFontMetrics
+    trainer = Trainer(load_circuit(examples_dir / "set_reset_latch.circuit.json"))
+    view = CurvesView()
+    qtbot.addWidget(view)
+    view.resize(420, 330)
+    view.show()
+    qtbot.waitExposed(view)
+    view.add_records([trainer.epoch() for _ in range(90)])
+    QApplication.processEvents()
+    for plot in (view.loss_plot, view.grad_plot, view.rate_plot):
+        axis = plot.getAxis("bottom")
+        lo, hi = axis.range
+        size = axis.geometry().width()
+        spacing, values = axis.tickValues(lo, hi, size)[0]
+        labels = axis.tickStrings(values, axis.scale, spacing)
+        metrics = QFontMetrics(axis.style["tickFont"] or view.font())
+        widest = max(metrics.horizontalAdvance(t) for t in labels)
+        assert len(labels) >= 2
+        assert spacing / (hi - lo) * size >= widest + 6, (plot, labels)
+    axis = view.loss_plot.getAxis("bottom")
+    spacing, values = axis.tickValues(*axis.range, axis.geometry().width())[0]
+    last = max(values)
+    x = view.loss_plot.getViewBox().mapViewToScene(pg_point(last, 0)).x()
+    half = QFontMetrics(axis.style["tickFont"] or view.font()).horizontalAdvance(f"{last:g}") / 2
+    assert x + half <= view.graphics.width()
+    view.resize(330, 330)  # the dock's width in a 1280 x 800 window
+    QApplication.processEvents()
+    for plot in (view.loss_plot, view.enorm_plot, view.grad_plot, view.rate_plot):
+        assert plot.sceneBoundingRect().right() <= view.graphics.width(), plot

@@ -53,11 +53,13 @@ class CurvesView(QWidget):
         self.graphics.setBackground(style.BACKGROUND)
         # the loss across the top; the three diagnostics side by side below it
         def log_axis():
-            return {"left": style.TidyLogAxis("left")}
+            return {"left": style.TidyLogAxis("left"), "bottom": style.SpacedAxis("bottom")}
         self.loss_plot = self.graphics.addPlot(row=0, col=0, colspan=3, axisItems=log_axis())
         self.enorm_plot = self.graphics.addPlot(row=1, col=0, axisItems=log_axis())
         self.grad_plot = self.graphics.addPlot(row=1, col=1, axisItems=log_axis())
-        self.rate_plot = self.graphics.addPlot(row=1, col=2)
+        self.rate_plot = self.graphics.addPlot(row=1, col=2, axisItems={"bottom": style.SpacedAxis("bottom")})
+        # room on the right for the last epoch label and the last title (both centred, they were cut)
+        self.graphics.ci.layout.setContentsMargins(2, 2, 18, 2)
         self.graphics.ci.layout.setRowStretchFactor(0, 3)
         self.graphics.ci.layout.setRowStretchFactor(1, 2)
         for plot in (self.loss_plot, self.enorm_plot, self.grad_plot, self.rate_plot):
@@ -70,6 +72,7 @@ class CurvesView(QWidget):
         for plot, title in ((self.loss_plot, "Loss per epoch"), (self.enorm_plot, "|e(t)| by step"),
                             (self.grad_plot, "Gradient norm"), (self.rate_plot, "Learning rate")):
             style.style_plot(plot)
+            style.narrow_title(plot)
             style.set_title(plot, title)
             plot.setMenuEnabled(False)
             plot.hideButtons()

@@ -7,6 +7,7 @@ sequential map, derivatives on a diverging map centred on zero.
 
 import numpy as np
 import pyqtgraph as pg
+from PySide6.QtCore import Qt
 from PySide6.QtGui import QColor, QFont
 
 BACKGROUND = "#ffffff"
@@ -75,6 +76,28 @@ def set_title(plot: pg.PlotItem, text: str) -> None:
     plot.setTitle(text, color=FOREGROUND, size="10pt")
 
 
+class _NarrowLabel(pg.LabelItem):
+    """A title that does not hold its plot wider than its text (pyqtgraph's does)."""
+
+    def updateMin(self):
+        super().updateMin()
+        self.setMinimumWidth(0)
+        self._sizeHint[Qt.SizeHint.MinimumSize] = (0, self._sizeHint[Qt.SizeHint.MinimumSize][1])
+
+
+def narrow_title(plot: pg.PlotItem) -> None:
+    """Give ``plot`` a title that may be narrower than its text, so plots side by side in a narrow
+    dock all stay in sight (the text stays centred and may overhang a little)."""
+    old = plot.titleLabel
+    plot.layout.removeItem(old)
+    old.setParentItem(None)
+    if old.scene() is not None:
+        old.scene().removeItem(old)
+    plot.titleLabel = _NarrowLabel("", size="11pt", parent=plot)
+    plot.layout.addItem(plot.titleLabel, 0, 1)
+    plot.setTitle(None)
+
+
 class TidyLogAxis(pg.AxisItem):
     """An axis whose log mode labels decades (and 2 and 5 times them when under two decades
     show), instead of every minor tick, so small plots stay legible."""
@@ -100,6 +123,30 @@ class TidyLogAxis(pg.AxisItem):
 
     def logTickStrings(self, values, scale, spacing):
         return [f"{10.0 ** v * scale:.3g}" for v in values]
+
+
+class SpacedAxis(pg.AxisItem):
+    """A horizontal axis whose numbered ticks stay far enough apart for their labels: pyqtgraph
+    spaces them by the axis length alone, which crowds "0 20 40 60 80" into a narrow plot."""
+
+    GAP = 10  # pixels between neighbouring labels
+
+    def tickSpacing(self, minVal, maxVal, size):
+        levels = super().tickSpacing(minVal, maxVal, size)
+        if not levels or size <= 0 or maxVal <= minVal:
+            return levels
+        from PySide6.QtGui import QFontMetrics
+        metrics = QFontMetrics(self.style.get("tickFont") or small_font())
+        spacing = levels[0][0]
+        ends = [np.ceil(minVal / spacing) * spacing, np.floor(maxVal / spacing) * spacing]
+        widest = max(metrics.horizontalAdvance(t) for t in self.tickStrings(ends, self.scale, spacing))
+        need = (widest + self.GAP) * (maxVal - minVal) / size  # in axis units
+        while spacing < need:
+            mantissa = spacing / 10.0 ** np.floor(np.log10(spacing))
+            spacing *= 2.5 if round(mantissa) == 2 else 2.0  # 1, 2, 5, 10, 20, 50...
+        if spacing == levels[0][0]:
+            return levels
+        return [(spacing, 0.0)] + [level for level in levels[1:] if level[0] < spacing]
 
 
 def fit_name_axis(axis: pg.AxisItem, names: list[str]) -> None:
