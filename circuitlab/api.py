@@ -56,6 +56,7 @@ class TrainingResult:
 
     @property
     def epochs(self) -> int:
+        """The number of epochs trained."""
         return len(self.history)
 
     def curve(self) -> dict[str, np.ndarray]:
@@ -77,6 +78,8 @@ def train(circuit: Circuit, epochs: int | None = None, seed: int | None = None,
     first (ties, frozen values and signs respected). ``callback(record)``
     runs after each epoch. Training starts from the values the circuit holds.
     """
+    if seed is not None and not 0 <= seed <= 2**32 - 1:
+        raise EngineError(f"the seed must lie in 0..{2**32 - 1} (got {seed})")
     work = circuit.copy()
     if seed is not None:
         work.training.seed = seed
@@ -106,10 +109,13 @@ class RunResult:
 
     @property
     def step_mask(self) -> np.ndarray:
+        """(S, T+1) bool: the step exists in that sequence (False on padding)."""
         return np.arange(self.y.shape[1])[None, :] <= self.lengths[:, None]
 
     def states(self, sequence: str) -> np.ndarray:
         """(length+1, n): the states of one sequence, padding cut off."""
+        if sequence not in self.sequence_names:
+            raise EngineError(f"there is no sequence named '{sequence}' in this run")
         s = self.sequence_names.index(sequence)
         return self.y[s, : self.lengths[s] + 1]
 
@@ -137,6 +143,8 @@ def run(circuit: Circuit, sequence: str | None = None, steps: int | None = None,
     if steps is not None:
         if steps < 1:
             raise EngineError("steps must be at least 1")
+        if fill is not None and not np.isfinite(fill):
+            raise EngineError("fill must be a finite number")
         work = _extended(circuit, steps, fill)
     try:
         comp = compile_circuit(work, None if sequence is None else [sequence])
@@ -196,34 +204,42 @@ class GradientResult:
 
     @property
     def W(self) -> np.ndarray:
+        """(n, n): dLoss/dw for each connection i -> j (0 where there is none)."""
         return self.grads.W
 
     @property
     def bias(self) -> np.ndarray:
+        """(n,): dLoss/db for each unit."""
         return self.grads.bias
 
     @property
     def init(self) -> np.ndarray:
+        """(n,): dLoss/dy(0) for each unit, summed over the sequences where it is not clamped at 0."""
         return self.grads.init
 
     @property
     def theta_gradient(self) -> np.ndarray:
+        """The gradient training follows: one entry per trainable parameter (see ``theta_labels``)."""
         return self.compiled.pack_gradient(self.grads)
 
     @property
     def theta_labels(self) -> list[str]:
+        """A plain label for each entry of ``theta_gradient``."""
         return list(self.compiled.param_labels)
 
     @property
     def y(self) -> np.ndarray:
+        """(S, T+1, n): every unit's state at every step."""
         return self.activity.y
 
     @property
     def e(self) -> np.ndarray:
+        """(S, T+1, n): dLoss/dy, 0 where a unit is clamped and on padding."""
         return self.backward.e
 
     @property
     def delta(self) -> np.ndarray:
+        """(S, T+1, n): dLoss/dnet, 0 where a unit is clamped, at step 0 and on padding."""
         return self.backward.delta
 
     def contributions(self, source: str, target: str, per_sequence: bool = False) -> np.ndarray:
@@ -260,4 +276,6 @@ def check_gradients(circuit: Circuit, tolerance: float = DEFAULT_TOLERANCE, rtrl
 
 def unroll(circuit: Circuit, steps: int | None = None) -> nx.DiGraph:
     """The unrolled network over steps 0..steps (default: the longest sequence) as a networkx graph."""
+    if steps is not None and steps < 0:
+        raise EngineError(f"steps must be at least 0 (got {steps})")
     return unrolled_graph(circuit, steps)

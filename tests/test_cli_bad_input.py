@@ -63,6 +63,8 @@ CASES = [
     ("run noseq.json", 2, "no sequences"),
     ("run good.json --sequence ghost", 2, "no sequence named 'ghost'"),
     ("run good.json --steps 0", 2, "steps must be at least 1"),
+    ("run good.json --steps 40 --fill nan", 2, "fill must be a finite number"),
+    ("run good.json --fill 0", 2, "only applies with --steps"),
     ("run good.json --csv dir.csv", 2, "is a folder"),
     ("run good.json --csv good.json", 2, "is also the input"),
     ("run good.json --csv nofolder/out.csv", 2, "does not exist"),

@@ -177,6 +177,9 @@ def run_run(args: argparse.Namespace) -> int:
     circuit = _load(args.file, False)
     if circuit is None:
         return 2
+    if args.fill is not None and args.steps is None:
+        error("--fill only applies with --steps (past the data)")
+        return 2
     problem = args.csv and destination_problem(args.csv, [args.file])
     if problem:
         error(problem)

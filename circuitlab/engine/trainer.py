@@ -66,6 +66,8 @@ class Trainer:
     """
 
     def __init__(self, circuit: Circuit, epochs: int | None = None):
+        if epochs is not None and epochs < 1:
+            raise EngineError(f"the number of epochs must be at least 1 (got {epochs})")
         self._max_epochs = epochs
         self.history: list[EpochRecord] = []
         self.done = False
