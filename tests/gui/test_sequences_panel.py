@@ -182,3 +182,28 @@ def test_choosing_a_sequence_shows_it_in_the_grid(panel, qtbot):
     assert grid.model.sequence_name == "second" and grid.model.columnCount() == 3
     cell_click(qtbot, panel, 0, 0)
     assert grid.model.sequence_name == "first" and grid.model.columnCount() == 5
+
+
+def test_generate_fills_a_sequence_just_added(panel, qtbot):
+    """Add, then Generate: the new, still empty sequence is what gets filled (not eight new ones)."""
+    from circuitlab.model import find_problems
+    doc = panel.document
+    qtbot.mouseClick(panel.add_button, Qt.MouseButton.LeftButton)
+    settle(qtbot, panel)
+    added = panel.current_name()
+    assert added not in ("first", "second") and panel.selected_names() == [added]
+    dialog = panel.generator_dialog()
+    qtbot.addWidget(dialog)
+    assert dialog.fill_button.isChecked()
+    qtbot.mouseClick(dialog.findChild(QDialogButtonBox).button(QDialogButtonBox.StandardButton.Ok),
+                     Qt.MouseButton.LeftButton)
+    panel.generate_from(dialog)
+    assert sorted(names(panel)) == sorted(["first", "second", added])  # filled, none added
+    seq = doc.circuit.sequence(added)
+    assert None not in seq.clamps["bit"] and None not in seq.targets["answer"][1:]
+    assert not [p for p in find_problems(doc.circuit) if f"'{added}'" in str(p) or added in str(p)]
+    # a selection that already holds values keeps "add new" as the default
+    cell_click(qtbot, panel, 0, 0)
+    dialog = panel.generator_dialog()
+    qtbot.addWidget(dialog)
+    assert dialog.new_button.isChecked()

@@ -260,7 +260,10 @@ class SequencesPanel(QWidget):
         for u in c.units:
             if c.schedule_for(u.name).target != "none":
                 suggestions.append((u.name, "target"))
-        dialog = GeneratorDialog(c.unit_names(), self.selected_names(), suggestions, self)
+        selected = self.selected_names()
+        dialog = GeneratorDialog(c.unit_names(), selected, suggestions, self)
+        if selected and all(_is_empty(c.sequence(n)) for n in selected):
+            dialog.fill_button.setChecked(True)  # sequences just added, still without values: fill them
         first_input = next((u for u, layer in suggestions if layer == "clamp"), "")
         for row in dialog.rows:
             if row.layer_box.currentData() == "target":
@@ -332,6 +335,10 @@ class SequencesPanel(QWidget):
         path, _ = QFileDialog.getSaveFileName(self, "Export sequences", "sequences.csv", "CSV files (*.csv)")
         if path:
             self.export_csv(path)
+
+
+def _is_empty(sequence) -> bool:
+    return all(v is None for values in (*sequence.clamps.values(), *sequence.targets.values()) for v in values)
 
 
 def connect_panels(sequences: SequencesPanel, grid) -> None:
