@@ -5,7 +5,7 @@ import shutil
 import pytest
 
 from circuitlab.cli import main
-from circuitlab.model import load_circuit
+from circuitlab.model import load_circuit, save_circuit
 
 
 @pytest.fixture
@@ -76,3 +76,21 @@ def test_every_malformed_case_exits_1_naming_its_place_and_changes_nothing(xy_ci
         where = f"line {line}" + (f", column {column}" if column else "")
         assert f"{where}: " in err and words in err, (text, err)
         assert xy_circuit.read_bytes() == before
+
+
+def test_import_with_out_leaves_the_input_circuits_csv_file_alone(echo, tmp_path, capsys):
+    # A circuit keeping its sequences in a CSV file beside it: writing the result to --out in
+    # the same folder must not rewrite the CSV file the input circuit reads.
+    c = load_circuit(echo)
+    c.sequences_file = "echo-data.csv"
+    save_circuit(c, echo)
+    data = (tmp_path / "echo-data.csv").read_bytes()
+    extra = tmp_path / "extra.csv"
+    extra.write_text("sequence,step,clamp:sensor\nnew,0,1.0\nnew,1,0.0\n")
+    out = tmp_path / "out.circuit.json"
+    assert main(["sequences", "import", str(echo), str(extra), "--out", str(out)]) == 0
+    assert "left as it was" in capsys.readouterr().out
+    assert (tmp_path / "echo-data.csv").read_bytes() == data
+    assert load_circuit(echo).sequences == c.sequences
+    result = load_circuit(out)
+    assert [s.name for s in result.sequences] == [s.name for s in c.sequences] + ["new"]

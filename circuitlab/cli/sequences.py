@@ -1,11 +1,13 @@
 """``sequences export`` and ``sequences import``: a circuit's sequences as CSV (long layout)."""
 
 import argparse
+import os
 from pathlib import Path
 
 from circuitlab.cli.output import destination_problem, error
 from circuitlab.model import CircuitFileError, ModelError, load_circuit, save_circuit
-from circuitlab.model.csvdata import SequenceCsvError, circuit_csv, read_csv_file, write_csv_file
+from circuitlab.model.csvdata import (SequenceCsvError, circuit_csv, read_csv_file, sequences_file_path,
+                                      write_csv_file)
 
 
 def register(commands) -> None:
@@ -63,10 +65,17 @@ def run_import(args: argparse.Namespace) -> int:
         error(f"{args.csv}: {exc}; nothing was imported (use --replace to replace the existing sequences)")
         return 1
     out = Path(args.out or args.file)
+    note = ""
+    if circuit.sequences_file and os.path.realpath(out) != os.path.realpath(args.file) and (
+            os.path.realpath(sequences_file_path(circuit, out))
+            == os.path.realpath(sequences_file_path(circuit, args.file))):
+        # Saving would rewrite the CSV file that FILE reads its sequences from.
+        note = f"; its sequences are stored in it, so {circuit.sequences_file} is left as it was"
+        circuit.sequences_file = None
     try:
         save_circuit(circuit, out)
     except (OSError, ModelError) as exc:
         error(f"cannot write {out} ({getattr(exc, 'strerror', None) or exc})")
         return 1
-    print(f"imported {len(sequences)} sequences into {out} ({len(circuit.sequences)} in all)")
+    print(f"imported {len(sequences)} sequences into {out} ({len(circuit.sequences)} in all){note}")
     return 0
