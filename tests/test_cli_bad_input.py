@@ -102,3 +102,15 @@ def test_bad_input_gets_a_clear_message_and_writes_nothing(folder, capsys, args,
     assert words in err, err
     assert err.startswith("circuitlab: ") and "Traceback" not in err
     assert snapshot(folder) == before
+
+
+def test_train_log_onto_the_circuits_own_sequences_file_is_refused(folder, capsys):
+    doc = json.loads(Path("good.json").read_text())
+    Path("data.csv").write_text("sequence,step,clamp:open_pulse,clamp:close_pulse,target:latched_open\n"
+                                "a,0,1.0,0.0,\na,1,0.0,0.0,1.0\n")
+    doc.update(sequences=[], sequences_file="data.csv")
+    Path("split.json").write_text(json.dumps(doc))
+    before = snapshot(folder)
+    assert main(["train", "split.json", "--epochs", "1", "--log", "data.csv"]) == 2
+    assert "is also the input file" in capsys.readouterr().err
+    assert snapshot(folder) == before

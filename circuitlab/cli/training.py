@@ -18,6 +18,7 @@ from circuitlab.cli.output import destination_problem, emit_json, error
 from circuitlab.engine import EngineError, Trainer
 from circuitlab.engine.gradcheck import DEFAULT_TOLERANCE
 from circuitlab.model import CircuitFileError, ModelError, load_circuit, save_circuit
+from circuitlab.model.csvdata import sequences_file_path
 from circuitlab.model.fileformat import write_atomic
 
 
@@ -82,8 +83,9 @@ def run_train(args: argparse.Namespace) -> int:
     if args.out and args.log and os.path.realpath(args.out) == os.path.realpath(args.log):
         _report(args.json, "--out and --log name the same file; give each its own")
         return 2
+    inputs = [args.file] + ([str(sequences_file_path(circuit, args.file))] if circuit.sequences_file else [])
     for out in filter(None, (args.out, args.log)):
-        problem = destination_problem(out, [args.file])
+        problem = destination_problem(out, inputs)
         if problem:
             _report(args.json, problem)
             return 2
