@@ -218,25 +218,25 @@ def door_latch() -> Circuit:
     return seeded_start(c, 3)
 
 
-def mirror_steering() -> Circuit:
-    """Tied weights: a left-right symmetric circuit whose mirror-image connections share one weight."""
-    units = [*column(["left_eye", "right_eye"], 0.0), *column(["steer_left", "steer_right"], 1.4 * SPACING)]
+def tank_balancer() -> Circuit:
+    """Tied weights: a symmetric two-tank circuit whose mirror-image connections share one weight."""
+    units = [*column(["level_a", "level_b"], 0.0), *column(["drain_a", "drain_b"], 1.4 * SPACING)]
     c = Circuit(
-        name="mirror steering",
-        description="Two light sensors see noisy brightness for six steps; by the last two steps the "
-        "steering unit on the brighter side must be on and the other off. Mirror-image connections "
-        "are tied, so the circuit is left-right symmetric by construction. Try: train and check "
-        "that each tied pair keeps one shared weight.",
+        name="tank balancer",
+        description="Two level gauges read two connected tanks, noisily, for six steps; by the last "
+        "two steps the drain of the fuller tank must be open and the other closed. Mirror-image "
+        "connections are tied, so the circuit treats both tanks alike by construction. Try: train "
+        "and check that each tied pair keeps one shared weight.",
         units=units,
-        schedule={"left_eye": UnitSchedule(clamp="every"), "right_eye": UnitSchedule(clamp="every"),
-                  "steer_left": UnitSchedule(target="last", target_last=2),
-                  "steer_right": UnitSchedule(target="last", target_last=2)},
+        schedule={"level_a": UnitSchedule(clamp="every"), "level_b": UnitSchedule(clamp="every"),
+                  "drain_a": UnitSchedule(target="last", target_last=2),
+                  "drain_b": UnitSchedule(target="last", target_last=2)},
         training=TrainingSettings(optimizer="adam", learning_rate=0.1, epochs=1000, loss="cross_entropy",
                                   seed=4, target_loss=0.01))
-    pairs = {"same_side": [("left_eye", "steer_left"), ("right_eye", "steer_right")],
-             "cross_side": [("left_eye", "steer_right"), ("right_eye", "steer_left")],
-             "rivalry": [("steer_left", "steer_right"), ("steer_right", "steer_left")],
-             "self_hold": [("steer_left", "steer_left"), ("steer_right", "steer_right")]}
+    pairs = {"same_tank": [("level_a", "drain_a"), ("level_b", "drain_b")],
+             "other_tank": [("level_a", "drain_b"), ("level_b", "drain_a")],
+             "rivalry": [("drain_a", "drain_b"), ("drain_b", "drain_a")],
+             "self_hold": [("drain_a", "drain_a"), ("drain_b", "drain_b")]}
     for group, members in pairs.items():
         for a, b in members:
             c.connect(a, b)
@@ -246,15 +246,15 @@ def mirror_steering() -> Circuit:
     for i in range(14):
         base = rng.uniform(0.2, 0.6)
         gap = rng.uniform(0.15, 0.35) * (1 if i % 2 == 0 else -1)
-        left = np.clip(base + gap + rng.normal(0, 0.05, length + 1), 0, 1)
-        right = np.clip(base + rng.normal(0, 0.05, length + 1), 0, 1)
-        brighter_left = float(left.mean() > right.mean())
+        level_a = np.clip(base + gap + rng.normal(0, 0.05, length + 1), 0, 1)
+        level_b = np.clip(base + rng.normal(0, 0.05, length + 1), 0, 1)
+        a_fuller = float(level_a.mean() > level_b.mean())
         early = [None] * (length - 1)  # targets only at the last two steps
         c.add_sequence(Sequence(
-            name=f"scene{i + 1}", length=length, held_out=i >= 12,
-            clamps={"left_eye": floats(left), "right_eye": floats(right)},
-            targets={"steer_left": early + [brighter_left] * 2,
-                     "steer_right": early + [1.0 - brighter_left] * 2}))
+            name=f"reading{i + 1}", length=length, held_out=i >= 12,
+            clamps={"level_a": floats(level_a), "level_b": floats(level_b)},
+            targets={"drain_a": early + [a_fuller] * 2,
+                     "drain_b": early + [1.0 - a_fuller] * 2}))
     return seeded_start(c, 4)
 
 
@@ -333,7 +333,7 @@ EXAMPLES = {
     "beat_keeper": beat_keeper,
     "set_reset_latch": door_latch,
     "heading_holder": heading_holder,
-    "mirror_steering": mirror_steering,
+    "tank_balancer": tank_balancer,
     "onset_detector": onset_detector,
 }
 
