@@ -74,6 +74,8 @@ CASES = [
     ("gradcheck notarget.json", 2, "nothing to check"),
     ("gradcheck good.json --tolerance -1", 2, "--tolerance"),
     ("export missing.json out.csv", 1, "No such file"),
+    ("export semantic.json out.csv", 1, "no unit named 'ghost'"),
+    ("export semantic.json out.graphml", 1, "no unit named 'ghost'"),
     ("export good.json adir", 2, "cannot tell the format"),
     ("export good.json dir.csv", 2, "is a folder"),
     ("export good.json nofolder/out.graphml", 2, "does not exist"),

@@ -36,8 +36,14 @@ def register(commands) -> None:
 
 
 def weight_matrix_csv(circuit: Circuit) -> str:
-    """The weight matrix as CSV text: unit names as header and first column."""
+    """The weight matrix as CSV text: unit names as header and first column.
+
+    Raises ``ModelError`` if a connection names a unit the circuit lacks.
+    """
     names = circuit.unit_names()
+    for c in circuit.connections:  # a connection to a missing unit would silently vanish
+        circuit.unit(c.source)
+        circuit.unit(c.target)
     weights = {c.key: c.weight for c in circuit.connections}
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\n")
