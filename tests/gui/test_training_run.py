@@ -164,6 +164,39 @@ def test_training_refuses_a_circuit_with_problems(qtbot, make_main_window, long_
     assert t.controller.state != RUNNING and t.controller.worker is None
     assert "cannot start" in t.panel.notice.text() and "open_pulse" in t.panel.notice.text()
     assert win.document.undo_stack.count() == 0  # nothing was changed
+    # once the problem is gone, training starts and the refusal no longer shows
+    win.document.undo_stack.push(_clamp_values(win.document, "open_pulse"))
+    qtbot.mouseClick(t.panel.buttons["train"], Qt.LeftButton)
+    assert t.controller.state == RUNNING
+    assert t.panel.notice.isHidden()
+
+
+def _clamp_values(document, unit):
+    """An undo step that gives every sequence zeros for ``unit``'s clamp."""
+    from circuitlab.gui.commands.sequence_edits import ReplaceSequences
+    seqs = [s.model_copy(update={"clamps": {**s.clamps, unit: [0.0] * (s.length + 1)}})
+            for s in document.circuit.sequences]
+    return ReplaceSequences(document, seqs, f"Zeros for {unit}")
+
+
+def test_train_after_a_finished_run_trains_on(qtbot, make_main_window, long_latch):
+    long_latch.training = long_latch.training.model_copy(update={"epochs": 15})
+    win = make_main_window(long_latch)
+    t = win.training
+    qtbot.waitUntil(lambda: t.controller.state == READY and t.controller.snapshot is not None)
+    qtbot.mouseClick(t.panel.buttons["train"], Qt.LeftButton)
+    qtbot.waitUntil(lambda: t.controller.state == PAUSED, timeout=20_000)
+    assert t.curves.epochs == 15 and "finished" in t.panel.notice.text()
+    trained = [c.weight for c in win.document.circuit.connections]
+    # Train again: fifteen more epochs on the same curves, from the trained weights, one more undo step
+    qtbot.mouseClick(t.panel.buttons["train"], Qt.LeftButton)
+    qtbot.waitUntil(lambda: t.controller.state == PAUSED and t.curves.epochs == 30, timeout=20_000)
+    assert "cannot" not in t.panel.notice.text()
+    np.testing.assert_array_equal(t.curves.column("epoch"), np.arange(1, 31))
+    stack = win.document.undo_stack
+    assert [stack.text(i) for i in range(stack.count())] == ["Train 15 epochs"] * 2
+    stack.undo()
+    assert [c.weight for c in win.document.circuit.connections] == trained
 
 
 def test_edits_while_training(qtbot, make_main_window, long_latch):

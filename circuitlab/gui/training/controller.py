@@ -60,6 +60,7 @@ class TrainingController(QObject):
         self._prepare_timer.setSingleShot(True)
         self._prepare_timer.timeout.connect(self._prepare_now)
         self._resume_state: str | None = None
+        self._finished = False       # the worker's trainer stopped by itself (epochs done, target loss)
         document.structure_changed.connect(self._structure_edited)
         document.data_changed.connect(self._structure_edited)
         document.values_changed.connect(self._values_edited)
@@ -152,6 +153,9 @@ class TrainingController(QObject):
         if find_problems(self.document.circuit):
             self._refuse()
             return False
+        if self._finished and self.worker is not None:
+            # a finished trainer takes no more epochs: go on with a fresh one (the curves continue)
+            self._end_worker()
         if self.worker is None:
             self._start_worker()
         return self.worker is not None
@@ -179,6 +183,7 @@ class TrainingController(QObject):
         worker.failed.connect(lambda text, w=worker: self._failed(w, text))
         self.worker = worker
         self._committed_epoch = 0
+        self._finished = False
         worker.start()
         if self.state == IDLE:
             self._set_state(READY)
@@ -232,6 +237,7 @@ class TrainingController(QObject):
         if snap.epoch:
             self._write_values(snap.unit_names, snap.W, snap.bias, snap.init)
         self.updated.emit(snap, records, False)
+        self._finished = self._finished or bool(snap.finished)
         if snap.diverged:
             self.message.emit(snap.diverged, True)
             self._commit()

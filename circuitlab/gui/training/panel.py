@@ -94,6 +94,8 @@ class TrainingPanel(QWidget):
         layout.addWidget(self.settings)
         layout.addStretch(1)
         controller.message.connect(self.show_notice)
+        # a run that starts makes the last notice (a refusal, a pause) out of date
+        controller.state_changed.connect(lambda state: state == RUNNING and self.notice.hide())
 
     def show_notice(self, text: str, warning: bool) -> None:
         colour = "#fdecea" if warning else "#eaf4ea"
