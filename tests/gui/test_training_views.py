@@ -194,3 +194,41 @@ def test_curve_axes_keep_their_epoch_labels_apart_and_inside(qtbot, examples_dir
     QApplication.processEvents()
     for plot in (view.loss_plot, view.enorm_plot, view.grad_plot, view.rate_plot):
         assert plot.sceneBoundingRect().right() <= view.graphics.width(), plot
+
+
+def test_views_out_of_sight_catch_up_when_shown(qtbot, make_main_window, examples_dir):
+    """The activity stack behind the inputs grid's tab is not redrawn while training; a click on
+    its tab shows the latest snapshot. A closed learning-curves panel catches up when reopened."""
+    from PySide6.QtWidgets import QTabBar
+
+    from circuitlab.gui.training.controller import PAUSED, READY
+    circuit = load_circuit(examples_dir / "set_reset_latch.circuit.json")
+    circuit.training = circuit.training.model_copy(update={"target_loss": None, "epochs": 200})
+    win = make_main_window(circuit, size=(1600, 1000))
+    t = win.training
+    qtbot.waitUntil(lambda: t.controller.state == READY and t.controller.snapshot is not None)
+    qtbot.waitUntil(lambda: win.panel("training_activity") in win.tabifiedDockWidgets(win.panel("schedule_grid")))
+    bar = next(b for b in win.findChildren(QTabBar) if b.isVisible()
+               and "Activity Stack" in [b.tabText(i) for i in range(b.count())])
+
+    def click_tab(text):
+        index = next(i for i in range(bar.count()) if bar.tabText(i) == text)
+        qtbot.mouseClick(bar, Qt.LeftButton, pos=bar.tabRect(index).center())
+        QApplication.processEvents()
+
+    click_tab("Inputs and Targets")
+    before = t.activity.shown().copy()
+    curves_dock = win.panel("training_curves")
+    curves_dock.toggleViewAction().trigger()  # View > Panels > Learning Curves: closed
+    assert not curves_dock.isVisible()
+    qtbot.mouseClick(t.panel.buttons["train"], Qt.LeftButton)
+    qtbot.waitUntil(lambda: t.controller.state == PAUSED, timeout=30_000)
+    latest = t.controller.snapshot.inspection.y
+    assert not np.allclose(latest, before)  # training changed the states...
+    np.testing.assert_array_equal(t.activity.shown(), before)  # ...but the hidden stack was left alone
+    assert t.curves.train_curve.getData()[0] is None or len(t.curves.train_curve.getData()[0]) == 0
+    click_tab("Activity Stack")
+    np.testing.assert_allclose(t.activity.shown(), latest)
+    curves_dock.toggleViewAction().trigger()
+    QApplication.processEvents()
+    np.testing.assert_array_equal(t.curves.train_curve.getData()[0], np.arange(1, 201))

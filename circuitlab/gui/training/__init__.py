@@ -104,6 +104,10 @@ def setup(window) -> TrainingSetup:
                                                            contributions.export_table),
                                           "Contributions per Step", "training_contributions", bottom)
     window.splitDockWidget(unrolled_dock, contributions_dock, Qt.Vertical)
+    # views out of sight skip their redraws until they are seen again
+    for dock, view in ((unrolled_dock, unrolled), (activity_dock, activity), (curves_dock, curves),
+                       (contributions_dock, contributions)):
+        dock.visibilityChanged.connect(lambda on, v=view: views.set_in_sight(v, on))
 
     watcher = _WindowWatcher(window)
     window.installEventFilter(watcher)

@@ -103,6 +103,8 @@ class CurvesView(QWidget):
         layout.addLayout(top)
         layout.addWidget(self.graphics, 1)
         self.log_scale.toggled.connect(self._scale_changed)
+        self._in_sight = True
+        self._out_of_date = False  # records arrived while the view was out of sight
         self.clear()
         self._scale_changed(self.log_scale.isChecked())
 
@@ -110,7 +112,7 @@ class CurvesView(QWidget):
         """Forget every epoch (a new training run)."""
         self._cols = {name: _Column() for name in self.COLUMNS}
         self.e_norm = np.zeros(0)
-        self._redraw()
+        self._redraw_in_sight()
 
     def add_records(self, records) -> None:
         """Append engine ``EpochRecord`` s (epoch, loss, held_out_loss, grad_norm, learning_rate, e_norm)."""
@@ -120,7 +122,7 @@ class CurvesView(QWidget):
             vals = [getattr(r, name) for r in records]
             self._cols[name].extend([np.nan if v is None else v for v in vals])
         self.e_norm = np.asarray(records[-1].e_norm, float)
-        self._redraw()
+        self._redraw_in_sight()
 
     def column(self, name: str) -> np.ndarray:
         return self._cols[name].values
@@ -129,7 +131,21 @@ class CurvesView(QWidget):
     def epochs(self) -> int:
         return self._cols["epoch"].size
 
+    def set_in_sight(self, in_sight: bool) -> None:
+        """Out of sight (a closed panel, a tab behind another) new records are only stored;
+        back in sight, the plots catch up."""
+        self._in_sight = in_sight
+        if in_sight and self._out_of_date:
+            self._redraw()
+
+    def _redraw_in_sight(self) -> None:
+        if self._in_sight:
+            self._redraw()
+        else:
+            self._out_of_date = True
+
     def _redraw(self) -> None:
+        self._out_of_date = False
         x = self.column("epoch")
         log = self.log_scale.isChecked()
         self.train_curve.setData(x, self._positive(self.column("loss"), log))

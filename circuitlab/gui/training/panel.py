@@ -142,7 +142,12 @@ class StatusWidgets(QWidget):
 
 
 class TrainingViews(QObject):
-    """Feeds the views from controller updates and keeps their selections in step."""
+    """Feeds the views from controller updates and keeps their selections in step.
+
+    A view out of sight (its panel closed, or a tab behind another: ``set_in_sight``, fed by the
+    docks' visibilityChanged) is not redrawn at each snapshot; it is drawn from the latest
+    snapshot when it comes back into sight.
+    """
 
     def __init__(self, controller: TrainingController, panel: TrainingPanel, status: StatusWidgets,
                  unrolled: UnrolledView, activity: ActivityView, curves: CurvesView,
@@ -156,6 +161,8 @@ class TrainingViews(QObject):
         self._structure_key = None
         self._drawn = None
         self._last_loss: float | None = None
+        self._out_of_sight: set[QWidget] = set()
+        self._stale: set[QWidget] = set()  # views that missed a snapshot while out of sight
         controller.updated.connect(self.update)
         controller.state_changed.connect(self._state_changed)
         unrolled.connection_selected.connect(self._connection_picked)
@@ -176,24 +183,49 @@ class TrainingViews(QObject):
             self.draw(snap)
 
     def draw(self, snap: Snapshot) -> None:
-        """Redraw the unrolled network, the activity stack and the contributions from ``snap``."""
+        """Redraw the unrolled network, the activity stack and the contributions from ``snap``
+        (those in sight; the others when they show)."""
         self._drawn = snap
-        insp = snap.inspection
-        if insp is None:
+        if snap.inspection is None:
             return
-        key = (tuple(insp.unit_names), tuple(insp.connections), insp.steps, insp.sequence_name)
-        if key != self._structure_key:
-            self._structure_key = key
-            self.unrolled.set_structure(insp.unit_names, insp.connections, insp.steps,
-                                        insp.clamp_mask, insp.target_mask)
-        index = {n: i for i, n in enumerate(insp.unit_names)}
-        src = np.array([index[s] for s, _ in insp.connections], int)
-        tgt = np.array([index[t] for _, t in insp.connections], int)
-        self.unrolled.set_weights(snap.W[src, tgt] if len(src) else [])
-        self.unrolled.set_stacks(insp.y, insp.net, insp.e, insp.delta)
-        self.activity.set_data(insp.unit_names, insp.y, insp.e, insp.delta, insp.target_mask,
-                               insp.target_values)
-        self._show_contributions(insp)
+        for view in (self.unrolled, self.activity, self.contributions):
+            if view in self._out_of_sight:
+                self._stale.add(view)
+            else:
+                self._stale.discard(view)
+                self._draw_view(view, snap)
+
+    def set_in_sight(self, view: QWidget, in_sight: bool) -> None:
+        """Tell whether ``view`` (any training view) can be seen; back in sight, it catches up."""
+        if view is self.curves:
+            self.curves.set_in_sight(in_sight)
+            return
+        if not in_sight:
+            self._out_of_sight.add(view)
+            return
+        self._out_of_sight.discard(view)
+        if view in self._stale and self._drawn is not None and self._drawn.inspection is not None:
+            self._stale.discard(view)
+            self._draw_view(view, self._drawn)
+
+    def _draw_view(self, view: QWidget, snap: Snapshot) -> None:
+        insp = snap.inspection
+        if view is self.unrolled:
+            key = (tuple(insp.unit_names), tuple(insp.connections), insp.steps, insp.sequence_name)
+            if key != self._structure_key:
+                self._structure_key = key
+                self.unrolled.set_structure(insp.unit_names, insp.connections, insp.steps,
+                                            insp.clamp_mask, insp.target_mask)
+            index = {n: i for i, n in enumerate(insp.unit_names)}
+            src = np.array([index[s] for s, _ in insp.connections], int)
+            tgt = np.array([index[t] for _, t in insp.connections], int)
+            self.unrolled.set_weights(snap.W[src, tgt] if len(src) else [])
+            self.unrolled.set_stacks(insp.y, insp.net, insp.e, insp.delta)
+        elif view is self.activity:
+            self.activity.set_data(insp.unit_names, insp.y, insp.e, insp.delta, insp.target_mask,
+                                   insp.target_values)
+        else:
+            self._show_contributions(insp)
 
     def select_connection(self, source: str | None, target: str | None = None) -> None:
         """Highlight every copy of a connection and show its contributions."""
