@@ -199,6 +199,7 @@ def test_generate_fills_a_sequence_just_added(panel, qtbot):
                      Qt.MouseButton.LeftButton)
     panel.generate_from(dialog)
     assert sorted(names(panel)) == sorted(["first", "second", added])  # filled, none added
+    assert doc.undo_stack.undoText() == "Generate rows of 1 sequence"
     seq = doc.circuit.sequence(added)
     assert None not in seq.clamps["bit"] and None not in seq.targets["answer"][1:]
     assert not [p for p in find_problems(doc.circuit) if f"'{added}'" in str(p) or added in str(p)]

@@ -284,8 +284,8 @@ class SequencesPanel(QWidget):
                 filled = {s.name: s for s in fill_sequences(
                     [self.document.circuit.sequence(n) for n in names], recipes, dialog.seed.value())}
                 new = [filled.get(s.name, s) for s in self.document.circuit.sequences]
-                self.document.push(ReplaceSequences(self.document, new,
-                                                    f"Generate rows of {len(names)} sequences"))
+                text = f"Generate rows of {len(names)} sequence{'s' if len(names) != 1 else ''}"
+                self.document.push(ReplaceSequences(self.document, new, text))
             else:
                 seqs = generate_sequences(recipes, dialog.count.value(), dialog.length.value(),
                                           dialog.seed.value(), dialog.stem.text().strip() or "generated",
