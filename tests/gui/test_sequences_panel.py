@@ -208,3 +208,11 @@ def test_generate_fills_a_sequence_just_added(panel, qtbot):
     dialog = panel.generator_dialog()
     qtbot.addWidget(dialog)
     assert dialog.new_button.isChecked()
+
+
+def test_names_have_the_room_in_a_narrow_panel(panel, qtbot):
+    edit_cell(qtbot, panel, 0, 0, "twelve_steps")
+    panel.resize(280, 400)
+    qtbot.wait(20)
+    rect = panel.list.visualRect(panel.list.model().index(0, 0))
+    assert rect.width() >= panel.list.fontMetrics().horizontalAdvance("twelve_steps") + 8

@@ -34,7 +34,10 @@ class SequencesPanel(QWidget):
         # one row per sequence: name and length edit in place, held out is a check box
         self.list = QTableWidget(0, 3)
         self.list.setHorizontalHeaderLabels(["Sequence", "Length", "Held out"])
-        self.list.horizontalHeader().setSectionResizeMode(0, QHeaderView.ResizeMode.Stretch)
+        header = self.list.horizontalHeader()
+        header.setSectionResizeMode(0, QHeaderView.ResizeMode.Stretch)
+        for column in (1, 2):  # as wide as their contents: the names get the rest of a narrow panel
+            header.setSectionResizeMode(column, QHeaderView.ResizeMode.ResizeToContents)
         self.list.verticalHeader().setVisible(False)
         self.list.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
         self.list.setSelectionMode(QAbstractItemView.SelectionMode.ExtendedSelection)
