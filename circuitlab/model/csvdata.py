@@ -70,11 +70,6 @@ class SequenceCsvError(ValueError):
         super().__init__(f"{source} cannot be imported (nothing was imported):\n{lines}")
 
 
-def column_name(layer: str, unit: str) -> str:
-    """``clamp:UNIT`` or ``target:UNIT``."""
-    return (CLAMP_PREFIX if layer == "clamp" else TARGET_PREFIX) + unit
-
-
 def write_csv(sequences: Iterable[Sequence], clamp_units: Iterable[str] = (),
               target_units: Iterable[str] = ()) -> str:
     """The CSV text for ``sequences``.

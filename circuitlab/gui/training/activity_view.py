@@ -77,9 +77,6 @@ class ActivityView(QWidget):
     def stack(self) -> str:
         return self.choice.currentData()
 
-    def set_stack(self, key: str) -> None:
-        self.choice.setCurrentIndex([k for k, _ in STACKS].index(key))
-
     def set_data(self, unit_names, y, e=None, delta=None, target_mask=None, target_values=None) -> None:
         """Show one sequence: ``(steps, n)`` arrays of states, e and delta, and its targets."""
         new_shape = (len(unit_names), np.shape(y)) != (len(self.unit_names), self.shape)
