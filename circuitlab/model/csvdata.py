@@ -32,6 +32,7 @@ from typing import Iterable
 
 from circuitlab.model.atomic import write_atomic
 from circuitlab.model.base import UNIT_NAME_PATTERN
+from circuitlab.model.errors import ProblemsError
 from circuitlab.model.sequences import Sequence
 
 SEQUENCE_COLUMN = "sequence"
@@ -60,14 +61,11 @@ class CsvProblem:
         return f"{where}: {self.message}"
 
 
-class SequenceCsvError(ValueError):
+class SequenceCsvError(ProblemsError):
     """A sequence CSV that cannot be read; ``problems`` lists each with line and column."""
 
     def __init__(self, source: str, problems: list[CsvProblem]):
-        self.source = source
-        self.problems = problems
-        lines = "\n".join(f"  {p}" for p in problems)
-        super().__init__(f"{source} cannot be imported (nothing was imported):\n{lines}")
+        super().__init__(source, problems, "cannot be imported (nothing was imported)")
 
 
 def write_csv(sequences: Iterable[Sequence], clamp_units: Iterable[str] = (),

@@ -23,11 +23,18 @@ class ModelError(ValueError):
     """An edit that the circuit cannot accept (unknown unit, duplicate name...)."""
 
 
-class CircuitFileError(ValueError):
-    """A circuit file that cannot be read. ``problems`` lists ``"path: reason"`` lines."""
+class ProblemsError(ValueError):
+    """An input that cannot be read, with every problem found in it (one per line of the message)."""
 
-    def __init__(self, source: str, problems: list[str]):
+    def __init__(self, source: str, problems: list, verdict: str):
         self.source = source
         self.problems = problems
         lines = "\n".join(f"  {p}" for p in problems)
-        super().__init__(f"{source} is not a valid circuit file:\n{lines}")
+        super().__init__(f"{source} {verdict}:\n{lines}")
+
+
+class CircuitFileError(ProblemsError):
+    """A circuit file that cannot be read. ``problems`` lists ``"path: reason"`` lines."""
+
+    def __init__(self, source: str, problems: list[str]):
+        super().__init__(source, problems, "is not a valid circuit file")
