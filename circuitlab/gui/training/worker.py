@@ -145,7 +145,6 @@ class TrainingWorker(QThread):
         if self._sequence not in self._sequences:
             self._sequence = self._sequences[0] if self._sequences else None
         self._pending: list = []
-        self._last_finite = self.trainer.parameters.copy()
         self._rate_mark = (time.perf_counter(), 0)
         self._rate = 0.0
         self._emit()
@@ -176,7 +175,6 @@ class TrainingWorker(QThread):
                 elif kind == "values":
                     self._circuit = cmd[1]
                     trainer.update_values(self._circuit)
-                    self._last_finite = trainer.parameters.copy()
                     want_snapshot = True
                 elif kind == "sequence":
                     self._sequence, want_snapshot = cmd[1], True
@@ -214,9 +212,10 @@ class TrainingWorker(QThread):
         params = trainer.parameters
         if rec.finite and np.isfinite(rec.loss) and params.all_finite():
             self._pending.append(rec)
-            self._last_finite = params.copy()
             return False
-        good = self._last_finite
+        # the trainer has already put back the last parameters with a finite loss; the circuit
+        # takes them too, and update_values lets training go on (say with a lower learning rate)
+        good = params
         restored = self._circuit.copy()
         apply_parameters(restored, self._names, good.W, good.bias, good.init)
         trainer.update_values(restored)
@@ -234,7 +233,7 @@ class TrainingWorker(QThread):
         return True
 
     def _emit(self, finished: str | None = None, diverged: str | None = None) -> None:
-        p = self.trainer.parameters if diverged is None else self._last_finite
+        p = self.trainer.parameters
         now, epoch = time.perf_counter(), self._epoch()
         t0, e0 = self._rate_mark
         if now - t0 >= 0.5 and self._running:
