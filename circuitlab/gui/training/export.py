@@ -6,6 +6,7 @@ scene: pyqtgraph 0.14's SVG exporter fails to parse the path data that Qt
 """
 
 import csv
+import numbers
 from pathlib import Path
 
 import pyqtgraph.exporters as exporters
@@ -38,12 +39,25 @@ def export_svg(item, path: str | Path) -> None:
         painter.end()
 
 
+def csv_cell(value):
+    """A table value as CSV text that ``float()`` reads back to the same number.
+
+    NumPy scalars are plain Python numbers first: ``repr(np.float64(1.0))`` is
+    ``'np.float64(1.0)'``, which no CSV reader takes for a number.
+    """
+    if isinstance(value, bool) or not isinstance(value, numbers.Number):
+        return value
+    if isinstance(value, numbers.Integral):
+        return str(int(value))
+    return repr(float(value))
+
+
 def write_csv(path: str | Path, header: list[str], rows: list[list]) -> None:
     """Plain comma-separated values with one header line (full float precision)."""
     with open(path, "w", newline="", encoding="utf-8") as fh:
         out = csv.writer(fh)
         out.writerow(header)
-        out.writerows([repr(v) if isinstance(v, float) else v for v in row] for row in rows)
+        out.writerows([csv_cell(v) for v in row] for row in rows)
 
 
 def export_button(parent, name: str, item_of, table_of, more_tables: dict | None = None) -> QToolButton:
