@@ -96,7 +96,7 @@ def loss_terms(compiled: Compiled, act: Activity, loss: str):
     scale = 1.0 / N if N else 0.0
     if loss == "squared":
         return value, np.where(m, losses.squared_dy(y, d), 0.0) * scale, None
-    gy = np.where(m, losses.cross_entropy_dy(y, d), 0.0) * scale
+    gy = np.where(m, losses.cross_entropy_dy(act.net_tm, d), 0.0) * scale
     gnet = np.where(m, losses.cross_entropy_dnet(y, d), 0.0) * scale
     return value, gy, gnet
 

@@ -13,10 +13,6 @@ import numpy as np
 
 LOSSES: tuple[str, ...] = ("squared", "cross_entropy")
 
-# y(1-y) below this counts as saturated when reporting dloss/dy of cross-entropy.
-_SATURATED = 1e-300
-
-
 def squared(y: np.ndarray, d: np.ndarray) -> np.ndarray:
     """``0.5 * (y - d)**2``."""
     return 0.5 * (y - d) ** 2
@@ -36,11 +32,34 @@ def cross_entropy_from_net(net: np.ndarray, d: np.ndarray) -> np.ndarray:
     return d * softplus(-net) + (1.0 - d) * softplus(net)
 
 
+def _logistic_parts(net: np.ndarray, d: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """``y - d`` and ``y (1 - y)`` of a logistic unit, both computed from the net input.
+
+    Forming them from y loses everything once y rounds to 1 (|net| above
+    about 37): ``1 - y`` becomes 0. With ``s = logistic(-|net|)`` (never
+    rounds to 0 before |net| ~ 745), ``y (1 - y) = s (1 - s)`` and
+    ``y - d = (1 - d) - s`` for net >= 0, ``s - d`` for net < 0.
+    """
+    a = np.exp(-np.abs(net))
+    s = a / (1.0 + a)
+    slope = a / (1.0 + a) ** 2
+    diff = np.where(net >= 0, (1.0 - d) - s, s - d)
+    return diff, slope
+
+
 def cross_entropy_dnet(y: np.ndarray, d: np.ndarray) -> np.ndarray:
     """``dloss/dnet`` for a logistic unit: ``y - d`` (finite even when y saturates)."""
     return y - d
 
 
-def cross_entropy_dy(y: np.ndarray, d: np.ndarray) -> np.ndarray:
-    """``dloss/dy = (y - d) / (y (1 - y))``; y(1-y) is floored at 1e-300 for saturated units."""
-    return (y - d) / np.maximum(y * (1.0 - y), _SATURATED)
+def cross_entropy_dy(net: np.ndarray, d: np.ndarray) -> np.ndarray:
+    """``dloss/dy = (y - d) / (y (1 - y))``, from the net input so a saturated unit keeps its value.
+
+    Past |net| ~ 709 the true value exceeds the largest double; it is then
+    reported as the largest finite double of its sign.
+    """
+    diff, slope = _logistic_parts(net, d)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        out = diff / slope
+    big = np.finfo(float).max
+    return np.where(np.isfinite(out), out, np.where(diff == 0, 0.0, np.copysign(big, diff)))
