@@ -234,6 +234,11 @@ def run_gradcheck(args: argparse.Namespace) -> int:
             print("(no trainable parameters)")
         if report.kink:
             print(f"note: {report.kink}")
+        if report.one_sided:
+            print(f"one-sided differences (next to a ReLU kink): {', '.join(report.one_sided)}")
+        if report.excluded:
+            print(f"left out of the verdict (finite differences cross a ReLU kink on both sides; "
+                  f"BPTT and RTRL still compared): {', '.join(report.excluded)}")
         verdict = "agree" if report.passed else "DISAGREE"
         print(f"gradients {verdict} (tolerance {report.tolerance:g})")
     return 0 if report.passed else 1
