@@ -7,10 +7,11 @@ is being opened.
 """
 
 import argparse
+import os
 import sys
 
 from circuitlab import __version__
-from circuitlab.cli import bench, files, graph, sequences, training
+from circuitlab.cli import bench, files, graph, output, sequences, training
 
 # Modules that each add one or more headless commands.
 COMMAND_MODULES = [files, bench, sequences, graph, training]
@@ -47,9 +48,27 @@ def main(argv: list[str] | None = None) -> int:
     command_names = set(parser._subparsers._group_actions[0].choices)  # type: ignore[union-attr]
     if argv and (argv[0] in command_names or argv[0] in ("-h", "--help", "--version")):
         args = parser.parse_args(argv)
-        return int(args.run(args) or 0)
+        return _run_command(args)
     args = build_editor_parser().parse_args(argv)
     return open_editor(args)
+
+
+def _run_command(args: argparse.Namespace) -> int:
+    """Run a headless command; a reader that closes the pipe early (``| head``) ends it quietly."""
+    saved = sys.stdout, sys.stderr
+    output.install_escaping_streams()
+    try:
+        code = int(args.run(args) or 0)
+        sys.stdout.flush()
+        return code
+    except BrokenPipeError:
+        # Python's documented remedy: point stdout at devnull so the interpreter's
+        # final flush does not raise a second time, and exit with an error status.
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.__stdout__.fileno())
+        return 1
+    finally:
+        sys.stdout, sys.stderr = saved
 
 
 def open_editor(args: argparse.Namespace) -> int:

@@ -3,7 +3,44 @@
 import json
 import os
 import sys
+import unicodedata
 from pathlib import Path
+
+# C0 and C1 control characters other than tab and line breaks: a name holding
+# "\x1b[31m" must not recolour (or worse, reprogram) the user's terminal.
+_KEEP = {"\t", "\n", "\r"}
+
+
+def printable(text: str) -> str:
+    """``text`` with control characters written as Python escapes (``\\x1b``)."""
+    if text.isprintable():
+        return text
+    return "".join(ch if ch in _KEEP or unicodedata.category(ch) != "Cc"
+                   else ch.encode("unicode_escape").decode("ascii") for ch in text)
+
+
+class EscapingStream:
+    """A text stream that writes control characters escaped (see ``printable``)."""
+
+    def __init__(self, stream):
+        self._stream = stream
+
+    def write(self, text: str) -> int:
+        return self._stream.write(printable(text))
+
+    def __getattr__(self, name):
+        return getattr(self._stream, name)
+
+
+def install_escaping_streams() -> None:
+    """Escape control characters on standard output and error for the rest of the command.
+
+    Files the commands write (``--out``, ``--csv``, ``--log``) are not affected.
+    """
+    for name in ("stdout", "stderr"):
+        stream = getattr(sys, name)
+        if stream is not None and not isinstance(stream, EscapingStream):
+            setattr(sys, name, EscapingStream(stream))
 
 
 def emit_json(obj: dict) -> None:
