@@ -146,13 +146,7 @@ def run(circuit: Circuit, sequence: str | None = None, steps: int | None = None,
         if fill is not None and not np.isfinite(fill):
             raise EngineError("fill must be a finite number")
         work = _extended(circuit, steps, fill)
-    try:
-        comp = compile_circuit(work, None if sequence is None else [sequence])
-    except EngineError as exc:
-        if steps is not None and fill is None and any("no value" in p for p in exc.problems):
-            raise EngineError(f"{exc}\n(past the data, give clamped units a value with fill=..., "
-                              "on the command line --fill VALUE)", exc.problems) from None
-        raise
+    comp = compile_circuit(work, None if sequence is None else [sequence])
     act = forward(comp, comp.parameters_from_circuit())
     return RunResult(comp.unit_names, comp.sequence_names, comp.lengths, act.y.copy(), act.net.copy())
 
@@ -163,21 +157,41 @@ def _extended(circuit: Circuit, steps: int, fill: float | None) -> Circuit:
     work.schedule = {name: sched.model_copy(update={"target": "none"})
                      for name, sched in work.schedule.items()}
     work.schedule = {k: v for k, v in work.schedule.items() if v != UnitSchedule()}
+    missing: dict[str, int] = {}  # unit clamped past the data -> how many sequences
+    first: dict[str, int] = {}    # unit -> the first step without data
     for seq in work.sequences:
         old = seq.length
         seq.targets = {}
         seq.resize(steps)
-        if fill is None:
-            continue
         for unit in work.units:
             mask = clamp_mask(unit, work.schedule_for(unit.name), seq)
             row = seq.clamps.setdefault(unit.name, [None] * seq.steps)
-            for t in range(old + 1, seq.steps):
-                if mask[t] and row[t] is None:
-                    row[t] = float(fill)
+            gaps = [t for t in range(old + 1, seq.steps) if mask[t] and row[t] is None]
+            if gaps and fill is None:
+                missing[unit.name] = missing.get(unit.name, 0) + 1
+                first[unit.name] = min(first.get(unit.name, gaps[0]), gaps[0])
+            for t in gaps if fill is not None else ():
+                row[t] = float(fill)
             if all(v is None for v in row):
                 del seq.clamps[unit.name]
+    if missing:
+        raise MissingFillError(missing, min(first.values()), steps)
     return work
+
+
+class MissingFillError(EngineError):
+    """Running past the data where units are clamped, with no value given for them there.
+
+    ``units`` maps each such unit to the number of sequences it lacks data in.
+    """
+
+    def __init__(self, units: dict[str, int], first_step: int, steps: int):
+        self.units = dict(units)
+        names = ", ".join(f"'{u}'" for u in units)
+        worst = max(units.values())
+        super().__init__(f"{names} {'is' if len(units) == 1 else 'are'} clamped past the end of the "
+                         f"data when running {steps} steps (steps {first_step}-{steps}, in {worst} "
+                         f"sequence{'s' if worst > 1 else ''}); give the value there with fill=VALUE")
 
 
 # ---------------------------------------------------------------- gradients

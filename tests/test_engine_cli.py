@@ -138,7 +138,7 @@ def test_train_exits_1_and_saves_finite_values_when_training_diverges(tmp_path, 
 
 def test_run_past_the_data_needs_data_for_clamped_units():
     c = constrained_circuit()  # 'x' is clamped at every step
-    with pytest.raises(api.EngineError, match="(?s)clamped at steps 6-20.*no value.*fill="):
+    with pytest.raises(api.EngineError, match="(?s)clamped past the end of the data.*steps 6-20.*fill="):
         api.run(c, steps=20)
     filled = api.run(c, steps=20, fill=0.25)
     assert (filled.y[:, 6:, 0] == 0.25).all() and (filled.y[:, :6, 0] == api.run(c).y[:, :, 0]).all()

@@ -22,6 +22,8 @@ def build_parser() -> argparse.ArgumentParser:
         prog="circuitlab",
         description="Design, train and inspect small recurrent circuits. "
         "Run 'circuitlab FILE' to open the editor, or one of the commands below.",
+        epilog=_editor_usage(),
+        formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     parser.add_argument("--version", action="version", version=f"circuitlab {__version__}")
     commands = parser.add_subparsers(dest="command", metavar="COMMAND")
@@ -42,6 +44,16 @@ def build_editor_parser() -> argparse.ArgumentParser:
     return parser
 
 
+def _editor_usage() -> str:
+    """The editor's own options, for the main help (they are parsed by the editor's parser)."""
+    lines = ["the editor:", "  circuitlab [FILE] [options]   open the editor (on FILE, if given)"]
+    for action in build_editor_parser()._actions:
+        if action.option_strings and action.help != argparse.SUPPRESS and "-h" not in action.option_strings:
+            flag = f"{action.option_strings[0]} {action.metavar or ''}".strip()
+            lines.append(f"  {flag:<28}  {action.help}")
+    return "\n".join(lines)
+
+
 def main(argv: list[str] | None = None) -> int:
     argv = sys.argv[1:] if argv is None else list(argv)
     parser = build_parser()
@@ -49,7 +61,10 @@ def main(argv: list[str] | None = None) -> int:
     if argv and (argv[0] in command_names or argv[0] in ("-h", "--help", "--version")):
         args = parser.parse_args(argv)
         return _run_command(args)
-    args = build_editor_parser().parse_args(argv)
+    editor = build_editor_parser()
+    args = editor.parse_args(argv)
+    if args.train_epochs and not args.screenshot:
+        editor.error("--train-epochs applies only with --screenshot; in the editor, press Train")
     return open_editor(args)
 
 
@@ -73,6 +88,12 @@ def _run_command(args: argparse.Namespace) -> int:
 
 def open_editor(args: argparse.Namespace) -> int:
     """Start the editor (imports Qt only now)."""
+    from circuitlab.cli.display import NO_DISPLAY_HINT, display_problem
+
+    problem = None if args.screenshot else display_problem()
+    if problem:
+        print(f"circuitlab: {problem}. {NO_DISPLAY_HINT}", file=sys.stderr)
+        return 2
     try:
         from circuitlab.gui.app import run_editor
     except ImportError as exc:

@@ -191,6 +191,9 @@ def run_run(args: argparse.Namespace) -> int:
         return 2
     try:
         result = api.run(circuit, sequence=args.sequence, steps=args.steps, fill=args.fill)
+    except api.MissingFillError as exc:
+        error(f"{args.file}: {str(exc).replace('fill=VALUE', '--fill VALUE (for example --fill 0)')}")
+        return 2
     except EngineError as exc:
         error(f"{args.file}: {exc}")
         return 2
