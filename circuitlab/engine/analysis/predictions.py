@@ -82,3 +82,30 @@ def predictions(compiled: Compiled, params: Parameters, use: str = "all", loss: 
     d = comp.target_values_tm[t, s, j]
     return Predictions(list(comp.unit_names), list(comp.sequence_names), comp.held_out.copy(), s, t, j,
                        y, d, y - d, cells[t, s, j], loss, float(tolerance), act, comp)
+
+
+def states_with_targets_csv(pred: Predictions) -> str:
+    """CSV: per (sequence, step) every unit's state, and beside each target unit its target, error, loss.
+
+    The cells off a unit's targets are left empty.
+    """
+    import csv
+    import io
+
+    comp, y = pred.compiled, pred.activity.y
+    targeted = np.flatnonzero(comp.target_tm.any(axis=(0, 1)))
+    cell = {(int(s), int(t), int(j)): k for k, (s, t, j) in enumerate(zip(pred.sequence, pred.step, pred.unit))}
+    buffer = io.StringIO()
+    writer = csv.writer(buffer, lineterminator="\n")
+    names = pred.unit_names
+    writer.writerow(["sequence", "step", *names,
+                     *(f"{kind}:{names[j]}" for j in targeted for kind in ("target", "error", "loss"))])
+    for s, seq in enumerate(pred.sequence_names):
+        for t in range(int(comp.lengths[s]) + 1):
+            extra = []
+            for j in targeted:
+                k = cell.get((s, t, int(j)))
+                extra += ["", "", ""] if k is None else [repr(float(pred.target[k])), repr(float(pred.error[k])),
+                                                          repr(float(pred.loss[k]))]
+            writer.writerow([seq, t, *(repr(float(v)) for v in y[s, t]), *extra])
+    return buffer.getvalue()
