@@ -54,6 +54,8 @@ def run_analyze(args: argparse.Namespace) -> int:
     try:
         circuit = load_circuit(args.file)
         comp = compile_circuit(circuit)
+        for name in held:
+            comp.unit_index(name)  # an unknown unit is a mistake to name, not a part to skip
         result = analyse(comp, comp.parameters_from_circuit(), held=held, factor=args.horizon,
                          tolerance=args.tolerance, levels=levels)
     except (CircuitFileError, EngineError) as exc:
