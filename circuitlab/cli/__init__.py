@@ -38,6 +38,9 @@ def build_editor_parser() -> argparse.ArgumentParser:
                         help="window size for --screenshot (default 1600x1000)")
     parser.add_argument("--train-epochs", type=int, default=0, metavar="N",
                         help="with --screenshot: train N epochs before rendering")
+    parser.add_argument("--show-analysis", metavar="PAGE",
+                        choices=("horizon", "fixed", "noise", "space", "predictions"),
+                        help="with --screenshot: compute the analyses and show this page of the Analysis panel")
     return parser
 
 

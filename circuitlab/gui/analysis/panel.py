@@ -246,9 +246,9 @@ class AnalysisPanel(QTabWidget):
 
 
 def setup(window) -> AnalysisPanel:
-    """Listed in ``gui.panels.PANEL_SETUPS``: dock the Analysis panel (hidden until asked for)."""
+    """Listed in ``gui.panels.PANEL_SETUPS``: dock the Analysis panel as a tab beside the activity stack."""
     panel = AnalysisPanel(window)
-    window.add_panel(panel, "Analysis", "analysis", Qt.BottomDockWidgetArea)
+    window.add_panel(panel, "Analysis", "analysis", Qt.BottomDockWidgetArea, tabify_with="training_activity")
     window.analysis = panel
     window.closing.connect(lambda: QThreadPool.globalInstance().waitForDone(5000))
     return panel
