@@ -18,6 +18,9 @@ def analyse_before_screenshot(window, args, timeout: float = 120.0) -> None:
         d = window.panel(other)
         if d is not None:
             d.hide()  # the picture is of the analysis: give it the whole bottom row
+    activity = window.panel("training_activity")
+    if activity is not None and dock not in window.tabifiedDockWidgets(activity):
+        window.tabifyDockWidget(activity, dock)
     dock.show()
     dock.raise_()
     for page in panel.pages.values():
