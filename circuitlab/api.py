@@ -29,7 +29,9 @@ from circuitlab.engine.unrolled import unrolled_graph
 from circuitlab.model import Circuit, UnitSchedule, clamp_mask, load_circuit, save_circuit
 
 __all__ = ["EngineError", "GradientResult", "RunResult", "TrainingResult", "check_gradients",
-           "gradients", "load", "run", "save", "train", "unroll"]
+           "gradients", "load", "run", "save", "train", "unroll",
+           "fixed_points", "noise_robustness", "past_horizon", "predictions", "pulse_response",
+           "standalone_python", "state_space"]
 
 
 def load(path: str | os.PathLike) -> Circuit:
@@ -293,3 +295,55 @@ def unroll(circuit: Circuit, steps: int | None = None) -> nx.DiGraph:
     if steps is not None and steps < 0:
         raise EngineError(f"steps must be at least 0 (got {steps})")
     return unrolled_graph(circuit, steps)
+
+
+# ----------------------------------------------------------------- analysis
+def _compiled(circuit: Circuit):
+    comp = compile_circuit(circuit)
+    return comp, comp.parameters_from_circuit()
+
+
+def past_horizon(circuit: Circuit, factor: int = 4, clamps: str | float = "hold", tolerance: float = 0.1,
+                 sequences: str = "training"):
+    """Run the sequences ``factor`` times their length; ``.y`` arrays and ``.verdicts`` records
+    ("settles", "oscillates" with its period, "leaves") per target unit (engine.analysis.horizon)."""
+    from circuitlab.engine.analysis import past_horizon as run_past
+    return run_past(*_compiled(circuit), factor, clamps, tolerance, sequences)
+
+
+def fixed_points(circuit: Circuit, held: dict[str, float] | None = None, starts: int = 64, seed: int = 0):
+    """Fixed points with the input units held (at 0 unless ``held`` says otherwise): each with its
+    state, Jacobian, eigenvalues, stability and time constant; ``.as_record()`` for plain data."""
+    from circuitlab.engine.analysis import fixed_points_of
+    return fixed_points_of(*_compiled(circuit), held, starts, seed)
+
+
+def noise_robustness(circuit: Circuit, levels=(0.0, 0.01, 0.05, 0.1), where: str = "states", repeats: int = 5,
+                     seed: int = 0, sequences: str = "training"):
+    """The loss with Gaussian noise of each size at every step (``.sigmas``, ``.means``, ``.spreads``)."""
+    from circuitlab.engine.analysis import noise_curve
+    return noise_curve(*_compiled(circuit), levels, where, repeats, seed, sequences)
+
+
+def pulse_response(circuit: Circuit, sequence: str, unit: str, step: int, size: float = 0.1, factor: int = 1):
+    """The difference a pulse added to ``unit`` at ``step`` makes to every state (``.response``)."""
+    from circuitlab.engine.analysis import pulse_response as pulse
+    return pulse(*_compiled(circuit), sequence, unit, step, size, factor)
+
+
+def state_space(circuit: Circuit, components: int = 3, sequences: str = "all"):
+    """PCA of the free units' trajectories: ``.trajectories``, ``.explained``, ``.directions``."""
+    from circuitlab.engine.analysis import state_space as pca
+    return pca(*_compiled(circuit), components, sequences)
+
+
+def predictions(circuit: Circuit, sequences: str = "all", tolerance: float = 0.1):
+    """Per target cell: output, target, error, cell loss (arrays); ``.per_sequence()``, ``.per_unit()``."""
+    from circuitlab.engine.analysis import predictions as predict
+    return predict(*_compiled(circuit), sequences, tolerance=tolerance)
+
+
+def standalone_python(circuit: Circuit, module: str = "circuit_forward") -> str:
+    """The text of a NumPy-only Python file that reproduces the circuit's forward pass."""
+    from circuitlab.engine.standalone import standalone_source
+    return standalone_source(*_compiled(circuit), circuit.name, module)

@@ -177,8 +177,8 @@ def test_export_csv_weight_matrix(capsys, tmp_path):
 
 
 def test_export_unknown_suffix_and_broken_input(capsys, tmp_path, broken):
-    code, _, err = run(capsys, "export", EXAMPLES[0], tmp_path / "x.png")
-    assert code == 2 and "use a name ending in .graphml or .csv" in err
+    code, _, err = run(capsys, "export", EXAMPLES[0], tmp_path / "x.txt")  # .png is now the canvas picture
+    assert code == 2 and "use a name ending in one of" in err and ".graphml" in err
     code, _, err = run(capsys, "export", broken, tmp_path / "x.graphml")
     assert code == 1 and "connections[0].weight: must be a number" in err
     assert not (tmp_path / "x.graphml").exists()

@@ -11,10 +11,10 @@ import os
 import sys
 
 from circuitlab import __version__
-from circuitlab.cli import bench, files, graph, output, sequences, training
+from circuitlab.cli import analyze, bench, files, graph, output, sequences, training
 
 # Modules that each add one or more headless commands.
-COMMAND_MODULES = [files, bench, sequences, graph, training]
+COMMAND_MODULES = [files, bench, sequences, graph, training, analyze]
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -41,6 +41,9 @@ def build_editor_parser() -> argparse.ArgumentParser:
                         help="window size for --screenshot (default 1600x1000)")
     parser.add_argument("--train-epochs", type=int, default=0, metavar="N",
                         help="with --screenshot: train N epochs before rendering")
+    parser.add_argument("--show-analysis", metavar="PAGE",
+                        choices=("horizon", "fixed", "noise", "space", "predictions"),
+                        help="with --screenshot: compute the analyses and show this page of the Analysis panel")
     return parser
 
 

@@ -1,9 +1,11 @@
 """``export`` and ``import-graphml``: a circuit's graph to and from other tools.
 
-``export`` names the format by the output's suffix: ``.graphml`` (units and
-connections with all their attributes) or ``.csv`` (the weight matrix, row =
-source unit, column = target unit, an empty cell where there is no
-connection).
+``export`` names the format by the output's suffix, or by ``--to``:
+``.graphml`` (units and connections with all their attributes), ``.csv`` (the
+weight matrix, row = source unit, column = target unit, an empty cell where
+there is no connection; biases and initial states go to OUT.units.csv
+beside it), ``.json`` (the circuit file), ``.npz`` (NumPy arrays), ``.py``
+(a standalone NumPy-only forward pass), ``.png`` / ``.svg`` (the canvas).
 """
 
 import argparse
@@ -11,19 +13,23 @@ import csv
 import io
 from pathlib import Path
 
+from circuitlab.cli import export as writers
 from circuitlab.cli.output import destination_problem, emit_json, error
+from circuitlab.engine import EngineError
 from circuitlab.model import Circuit, CircuitFileError, ModelError, load_circuit, save_circuit
 from circuitlab.model.fileformat import write_atomic
 from circuitlab.model.graph import read_graphml, write_graphml
 
-EXPORT_FORMATS = {".graphml": "GraphML", ".csv": "CSV weight matrix"}
 CORNER = "source\\target"
 
 
 def register(commands) -> None:
-    p = commands.add_parser("export", help="write a circuit's graph as GraphML or its weight matrix as CSV")
+    p = commands.add_parser("export", help="write a circuit as GraphML, CSV, NPZ, a standalone Python file or a picture")
     p.add_argument("file", metavar="FILE", help="circuit file (.circuit.json)")
-    p.add_argument("out", metavar="OUT", help="output file; its suffix (.graphml or .csv) names the format")
+    p.add_argument("out", metavar="OUT", help="output file; its suffix names the format unless --to does")
+    p.add_argument("--to", choices=list(writers.FORMATS), help="the format, whatever OUT's suffix")
+    p.add_argument("--width", type=int, default=1600, metavar="PX",
+                   help="width of a PNG picture in pixels (default 1600)")
     p.add_argument("--json", action="store_true", help="print one JSON object")
     p.set_defaults(run=run_export)
 
@@ -55,31 +61,45 @@ def weight_matrix_csv(circuit: Circuit) -> str:
 
 
 def run_export(args: argparse.Namespace) -> int:
-    suffix = Path(args.out).suffix.lower()
-    if suffix not in EXPORT_FORMATS:
-        return _fail(args, f"cannot tell the format of '{args.out}': use a name ending in "
-                     + " or ".join(EXPORT_FORMATS), code=2)
-    problem = destination_problem(args.out, [args.file])
-    if problem:
-        return _fail(args, problem, code=2)
+    kind = args.to or writers.format_of(args.out)
+    if kind is None:
+        suffixes = " ".join(x for v in writers.FORMATS.values() for x in v[0])
+        return _fail(args, f"cannot tell the format of '{args.out}': use a name ending in one of "
+                     f"{suffixes}, or give --to", code=2)
+    if not 16 <= args.width <= 20_000:
+        return _fail(args, "--width must lie between 16 and 20000 pixels", code=2)
+    outputs = [args.out] + ([writers.units_csv_path(args.out)] if kind == "csv" else [])
+    for out in outputs:
+        problem = destination_problem(out, [args.file])
+        if problem:
+            return _fail(args, problem, code=2)
     try:
         circuit = load_circuit(args.file)
-        if suffix == ".graphml":
+        if kind == "graphml":
             write_graphml(circuit, args.out)
-        else:
+        elif kind == "csv":
             write_atomic(args.out, weight_matrix_csv(circuit).encode("utf-8"))
+            write_atomic(outputs[1], writers.units_csv(circuit).encode("utf-8"))
+        elif kind == "circuit":
+            save_circuit(circuit, args.out)
+        elif kind == "npz":
+            writers.write_npz(circuit, args.out)
+        elif kind == "py":
+            writers.write_standalone(circuit, args.out)
+        elif not writers.write_picture(circuit, args.out, args.width):
+            return _fail(args, f"could not write {args.out}")
     except CircuitFileError as exc:
         return _fail(args, str(exc), problems=exc.problems)
-    except ModelError as exc:
+    except (ModelError, EngineError) as exc:
         return _fail(args, f"{args.file}: {exc}")
     except OSError as exc:
         return _fail(args, f"cannot write {args.out} ({exc.strerror or exc})")
-    result = {"input": args.file, "output": args.out, "format": EXPORT_FORMATS[suffix],
+    result = {"input": args.file, "output": args.out, "outputs": outputs, "format": writers.FORMATS[kind][1],
               "units": len(circuit.units), "connections": len(circuit.connections)}
     if args.json:
         emit_json({"ok": True, **result})
     else:
-        print(f"wrote {args.out} ({result['format']}: {result['units']} units, "
+        print(f"wrote {', '.join(outputs)} ({result['format']}: {result['units']} units, "
               f"{result['connections']} connections)")
     return 0
 

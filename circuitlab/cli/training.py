@@ -42,6 +42,8 @@ def register(commands) -> None:
     p.add_argument("--fill", type=float, metavar="VALUE",
                    help="with --steps: the value of clamped units past their data (for example 0)")
     p.add_argument("--csv", metavar="OUT", help="write the CSV here (default: standard output)")
+    p.add_argument("--with-targets", action="store_true",
+                   help="add each target unit's target, error and cell loss beside the states")
     p.set_defaults(run=run_run)
 
     p = commands.add_parser("gradcheck", help="check BPTT gradients against finite differences and RTRL")
@@ -182,6 +184,9 @@ def run_run(args: argparse.Namespace) -> int:
     if args.fill is not None and args.steps is None:
         error("--fill only applies with --steps (past the data)")
         return 2
+    if args.with_targets and args.steps is not None:
+        error("--with-targets compares the sequences as they are; leave out --steps")
+        return 2
     problem = args.csv and destination_problem(args.csv, [args.file])
     if problem:
         error(problem)
@@ -198,6 +203,15 @@ def run_run(args: argparse.Namespace) -> int:
         error(f"{args.file}: {exc}")
         return 2
     text = result.to_csv()
+    if args.with_targets:
+        from circuitlab.engine import compile_circuit
+        from circuitlab.engine.analysis.predictions import predictions, states_with_targets_csv
+        try:
+            comp = compile_circuit(circuit, None if args.sequence is None else [args.sequence])
+            text = states_with_targets_csv(predictions(comp, comp.parameters_from_circuit()))
+        except EngineError as exc:
+            error(f"{args.file}: {exc}")
+            return 2
     if args.csv:
         try:
             write_atomic(args.csv, text.encode("utf-8"))

@@ -6,7 +6,8 @@ import sys
 
 # Hooks run in --screenshot mode after the file is loaded and before the picture is taken:
 # "module:function" taking (window, args). Other parts of the editor add theirs here.
-BEFORE_SCREENSHOT: list[str] = ["circuitlab.gui.training.screenshot:train_before_screenshot"]
+BEFORE_SCREENSHOT: list[str] = ["circuitlab.gui.training.screenshot:train_before_screenshot",
+                                 "circuitlab.gui.analysis.screenshot:analyse_before_screenshot"]
 
 
 def make_application(argv: list[str] | None = None):

@@ -13,6 +13,7 @@ PANEL_SETUPS: list[str] = [
     "circuitlab.gui.panels.sequences_panel:setup",
     "circuitlab.gui.training:setup",
     "circuitlab.gui.examples_menu:setup",
+    "circuitlab.gui.analysis.panel:setup",
 ]
 
 
