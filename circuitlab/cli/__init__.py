@@ -10,10 +10,10 @@ import argparse
 import sys
 
 from circuitlab import __version__
-from circuitlab.cli import bench, files, graph, sequences, training
+from circuitlab.cli import bench, files, graph, runs, sequences, sweep, training
 
 # Modules that each add one or more headless commands.
-COMMAND_MODULES = [files, bench, sequences, graph, training]
+COMMAND_MODULES = [files, bench, sequences, graph, training, runs, sweep]
 
 
 def build_parser() -> argparse.ArgumentParser:
