@@ -151,6 +151,7 @@ def test_runs_command_lists_shows_exports_and_deletes(tmp_path, capsys):
     assert shown["curves"]["loss"] == [0.1] * 5 and shown["curves"]["test_loss"] == []
     out = tmp_path / "curve.csv"
     assert main(["runs", "export", str(listed[0]["id"]), str(out), "--db", str(db)]) == 0
+    assert capsys.readouterr().out.startswith("wrote")
     lines = out.read_text().splitlines()
     assert lines[0].startswith("epoch,loss,validation_loss") and lines[1].startswith("1,0.2,")
     assert main(["runs", "list", "--db", str(db), "--circuit", str(LATCH), "--json"]) == 0

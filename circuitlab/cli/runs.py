@@ -149,8 +149,10 @@ def run_export(args: argparse.Namespace) -> int:
         buffer = io.StringIO()
         writer = csv.writer(buffer, lineterminator="\n")
         writer.writerow(CURVE_COLUMNS)
-        curves = run["curves"]
-        for i in range(curves["epoch"].size):
+        n = run["curves"]["epoch"].size
+        # a column the run did not record (for example no test set) is written empty
+        curves = {k: v if v.size == n else np.full(n, np.nan) for k, v in run["curves"].items()}
+        for i in range(n):
             writer.writerow([int(curves["epoch"][i])] + ["" if not np.isfinite(v) else repr(float(v))
                                                          for v in (curves[k][i] for k in CURVE_COLUMNS[1:])])
         text = buffer.getvalue()
