@@ -16,6 +16,8 @@ for any real use (for example before one controls something physical).
 import csv
 import io
 import os
+import time
+import warnings
 from dataclasses import dataclass
 from typing import Callable
 
@@ -27,6 +29,7 @@ from circuitlab.engine import (Activity, Backward, Compiled, EngineError, EpochR
 from circuitlab.engine.gradcheck import DEFAULT_TOLERANCE, GradientCheck, gradient_check
 from circuitlab.engine.unrolled import unrolled_graph
 from circuitlab.model import Circuit, UnitSchedule, clamp_mask, load_circuit, save_circuit
+from circuitlab.runs.recorder import RunRecorder
 
 __all__ = ["EngineError", "GradientResult", "RunResult", "TrainingResult", "check_gradients",
            "gradients", "load", "run", "save", "train", "unroll",
@@ -72,13 +75,17 @@ class TrainingResult:
 
 
 def train(circuit: Circuit, epochs: int | None = None, seed: int | None = None,
-          reinitialise: bool = False, callback: Callable[[EpochRecord], None] | None = None) -> TrainingResult:
+          reinitialise: bool = False, callback: Callable[[EpochRecord], None] | None = None,
+          record: bool = True, db: str | os.PathLike | None = None) -> TrainingResult:
     """Train a copy of ``circuit`` with its training settings; ``circuit`` itself is not changed.
 
     ``epochs`` overrides the maximum number of epochs and ``seed`` the
     training seed; ``reinitialise`` draws fresh seeded fan-in-scaled weights
     first (ties, frozen values and signs respected). ``callback(record)``
     runs after each epoch. Training starts from the values the circuit holds.
+    The run is recorded in the run history (``db``, default: the user's
+    ``runs.sqlite``, see ``circuitlab.runs``) unless ``record`` is False; a
+    history that cannot be written gives one warning and loses nothing.
     """
     if seed is not None and not 0 <= seed <= 2**32 - 1:
         raise EngineError(f"the seed must lie in 0..{2**32 - 1} (got {seed})")
@@ -89,10 +96,17 @@ def train(circuit: Circuit, epochs: int | None = None, seed: int | None = None,
     if reinitialise:
         trainer.reinitialise(work.training.seed)
     initial = trainer.loss()
+    started, start_parameters = time.perf_counter(), trainer.parameters
     trainer.run(callback)
+    RunRecorder(db, record, report=_warn).record_trainer(trainer, work, "api", started=started,
+                                                         initial_parameters=start_parameters)
     trainer.write_back(work)
     return TrainingResult(work, trainer.history, initial, trainer.loss(), trainer.held_out_loss(),
                           trainer.stopped_because or "")
+
+
+def _warn(message: str) -> None:
+    warnings.warn(message, RuntimeWarning, stacklevel=3)
 
 
 # --------------------------------------------------------------------- runs

@@ -14,3 +14,9 @@ EXAMPLES = sorted((ROOT / "example_circuits").glob("*.circuit.json"))
 @pytest.fixture
 def examples_dir() -> Path:
     return ROOT / "example_circuits"
+
+
+@pytest.fixture(autouse=True)
+def _private_run_history(tmp_path_factory, monkeypatch):
+    """Runs recorded by a test go to a file of its own, never to the user's history."""
+    monkeypatch.setenv("CIRCUITLAB_RUNS_DB", str(tmp_path_factory.mktemp("history") / "runs.sqlite"))

@@ -11,10 +11,10 @@ import os
 import sys
 
 from circuitlab import __version__
-from circuitlab.cli import analyze, bench, files, graph, output, sequences, training
+from circuitlab.cli import analyze, bench, files, graph, output, runs, sequences, sweep, training
 
 # Modules that each add one or more headless commands.
-COMMAND_MODULES = [files, bench, sequences, graph, training, analyze]
+COMMAND_MODULES = [files, bench, sequences, graph, training, analyze, runs, sweep]
 
 
 def build_parser() -> argparse.ArgumentParser:

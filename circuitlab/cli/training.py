@@ -20,6 +20,7 @@ from circuitlab.engine.gradcheck import DEFAULT_TOLERANCE
 from circuitlab.model import CircuitFileError, ModelError, load_circuit, save_circuit
 from circuitlab.model.csvdata import sequences_file_path
 from circuitlab.model.fileformat import write_atomic
+from circuitlab.runs.recorder import RunRecorder, add_record_options, now
 
 
 def register(commands) -> None:
@@ -32,6 +33,7 @@ def register(commands) -> None:
     p.add_argument("--out", metavar="TRAINED.json", help="write the trained circuit here")
     p.add_argument("--log", metavar="CURVE.csv", help="write the learning curve (one row per epoch) here")
     p.add_argument("--json", action="store_true", help="print one JSON object")
+    add_record_options(p)
     p.set_defaults(run=run_train)
 
     p = commands.add_parser("run", help="run a circuit and write every unit's state at every step as CSV")
@@ -106,6 +108,7 @@ def run_train(args: argparse.Namespace) -> int:
     initial = trainer.loss()
     if not args.json:
         print(f"initial loss {initial:.6g}")
+    started, start_parameters = now(), trainer.parameters
     interrupted = False
     try:
         _train_loop(trainer, show_progress=not args.json and sys.stderr.isatty())
@@ -132,6 +135,9 @@ def run_train(args: argparse.Namespace) -> int:
         detail = f"{exc.filename} ({exc.strerror})" if isinstance(exc, OSError) and exc.strerror else exc
         _report(args.json, f"cannot write the results: {detail}; wrote only {', '.join(written) or 'nothing'}")
         return 2
+    RunRecorder(args.db, not args.no_record).record_trainer(
+        trainer, circuit, "cli", started=started, interrupted=interrupted,
+        initial_parameters=start_parameters, file=args.file)
     failed = bool(trainer.history) and not trainer.history[-1].finite
     if args.json:
         emit_json({"ok": not failed, "initial_loss": _number(initial), "final_loss": _number(final),
