@@ -17,6 +17,7 @@ from PySide6.QtCore import QEvent, QObject, Qt
 from PySide6.QtGui import QAction
 from PySide6.QtWidgets import QFrame, QHBoxLayout, QLabel, QToolButton
 
+from circuitlab.gui import visual_code as vc
 from circuitlab.model import CircuitFileError, load_circuit
 
 EXAMPLES_DIR = Path(__file__).resolve().parent.parent.parent / "example_circuits"
@@ -48,8 +49,9 @@ class ExampleBanner(QFrame):
         self.setObjectName("example_banner")
         self.setFrameShape(QFrame.StyledPanel)
         self.setAutoFillBackground(True)
-        self.setStyleSheet("#example_banner { background: #fff7d6; border: 1px solid #d9c27a; "
-                           "border-radius: 4px; } QLabel { color: #3d3414; }")
+        self.setStyleSheet(f"#example_banner {{ background: {vc.css(vc.BANNER_FILL)}; border: 1px solid "
+                           f"{vc.css(vc.BANNER_RIM)}; border-radius: 4px; }} "
+                           f"QLabel {{ color: {vc.css(vc.BANNER_TEXT)}; }}")
         self.label = QLabel(self)
         self.label.setTextFormat(Qt.PlainText)
         self.label.setWordWrap(True)  # one line on a normal canvas, never clipped on a narrow one
@@ -79,10 +81,22 @@ class ExampleBanner(QFrame):
         return False
 
     def _place(self) -> None:
+        # the banner sits in a margin the canvas keeps free above its viewport: it covers nothing
         width = max(self._canvas.width() - 2 * BANNER_MARGIN, 100)
         self.setFixedWidth(width)
         self.adjustSize()
-        self.move(BANNER_MARGIN, BANNER_MARGIN)
+        self.move(BANNER_MARGIN, BANNER_MARGIN // 2)
+        if self.isVisibleTo(self._canvas) or not self.isHidden():
+            self._canvas.set_top_margin(self.height() + BANNER_MARGIN)
+
+    def showEvent(self, event) -> None:
+        super().showEvent(event)
+        self._place()
+
+    def hideEvent(self, event) -> None:
+        super().hideEvent(event)
+        if self.isHidden():  # hidden for good, not only because the window is
+            self._canvas.set_top_margin(0)
 
 
 class ExamplesMenu(QObject):

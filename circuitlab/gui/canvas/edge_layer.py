@@ -8,10 +8,13 @@ drag never rebuilds the batches.
 """
 
 from PySide6.QtCore import QRectF, Qt
-from PySide6.QtGui import QBrush, QPainter, QPainterPath, QPen, QPixmap
+from PySide6.QtGui import QBrush, QFontMetricsF, QPainter, QPainterPath, QPen, QPixmap
 from PySide6.QtWidgets import QGraphicsItem
 
+from circuitlab.gui import visual_code as vc
 from circuitlab.gui.canvas import style
+
+BADGE_METRICS = QFontMetricsF(vc.badge_font())
 
 
 SMOOTH_ALWAYS = 800  # circuits with at most this many connections are always antialiased
@@ -28,6 +31,7 @@ class EdgeLayer(QGraphicsItem):
         self.selected: set = set()  # kept by the scene as the selection changes
         self._still: tuple | None = None  # (view key, picture of the still arrows) while dragging
         self._batches: list[tuple[int, bool, QPainterPath, QPainterPath]] | None = None
+        self._tied: list | None = None  # arrows with a tie badge
         # covers the whole scene, so arrows can move anywhere without bounds bookkeeping
         self._bounds = QRectF(-style.SCENE_EXTENT, -style.SCENE_EXTENT, 2 * style.SCENE_EXTENT,
                               2 * style.SCENE_EXTENT)
@@ -38,6 +42,7 @@ class EdgeLayer(QGraphicsItem):
     def invalidate(self) -> None:
         """Some arrow changed shape or style: rebuild the batches before the next paint."""
         self._batches = None
+        self._tied = None
         self.update()
 
     def edge_changed(self, item) -> None:
@@ -102,9 +107,8 @@ class EdgeLayer(QGraphicsItem):
         if self.selected:
             painter.setBrush(Qt.NoBrush)
             for e in self.selected:
-                painter.setPen(QPen(style.SELECTED_EDGE, e.width + 4.0, Qt.SolidLine, Qt.RoundCap))
+                painter.setPen(vc.selection_pen(e.width + 8.0))
                 painter.drawPath(e.path)
-                painter.setPen(QPen(style.SELECTED_EDGE, 3.0, Qt.SolidLine, Qt.RoundCap, Qt.RoundJoin))
                 painter.drawPolygon(e.arrow)
         if self.live and widget is not None:
             self._paint_still_picture(painter, widget)
@@ -115,6 +119,22 @@ class EdgeLayer(QGraphicsItem):
             heads = QPainterPath()
             heads.addPolygon(e.arrow)
             _draw(painter, e.level, e.frozen, e.path, heads)
+        if self.selected:  # the dashed outline tells the selection apart without its colour
+            painter.setBrush(Qt.NoBrush)
+            painter.setPen(vc.selection_outline(1.4))
+            for e in self.selected:
+                painter.drawPolygon(e.arrow)
+        if self._tied is None:
+            self._tied = [e for e in self.edges.values() if e.tie_label]
+        for e in self._tied:
+            self._draw_badge(painter, e)
+
+    @staticmethod
+    def _draw_badge(painter: QPainter, e) -> None:
+        """The tie group's badge at the middle of the arrow."""
+        mid = e.path.pointAtPercent(0.5)
+        w = max(16.0, BADGE_METRICS.horizontalAdvance(e.tie_label) + 8.0)
+        vc.draw_tie_badge(painter, QRectF(mid.x() - w / 2, mid.y() - 7, w, 14), e.tie_label)
 
 
 def _draw(painter: QPainter, level: int, frozen: bool, lines: QPainterPath, heads: QPainterPath) -> None:

@@ -17,29 +17,25 @@ def _unit(dx: float, dy: float) -> tuple[float, float]:
     return dx / d, dy / d
 
 
-def edge_path(p: QPointF, q: QPointF, bent: bool, radius: float = UNIT_RADIUS,
+def edge_path(p: QPointF, q: QPointF, bend: float, radius: float = UNIT_RADIUS,
               loop_angle: float = UP) -> tuple[QPainterPath, QPolygonF]:
     """The line and the arrowhead of ``p -> q``.
 
-    A connection whose reverse also exists is bent to its own left, so the two
-    arrows of a reciprocal pair never overlap. ``p == q`` draws a loop leaving
-    the unit towards ``loop_angle`` (radians, screen coordinates).
+    ``bend`` moves the middle of the arrow that far (scene pixels) to the
+    left of its direction of travel (negative: to the right); 0 draws it
+    straight. ``p == q`` draws a loop leaving the unit towards ``loop_angle``
+    (radians, screen coordinates).
     """
     if p == q:
         return _loop(p, radius, loop_angle)
     dx, dy = _unit(q.x() - p.x(), q.y() - p.y())
-    dist = math.hypot(q.x() - p.x(), q.y() - p.y())
-    if not bent:
+    if not bend:
         start = QPointF(p.x() + dx * radius, p.y() + dy * radius)
         tip = QPointF(q.x() - dx * (radius + 1.5), q.y() - dy * (radius + 1.5))
         path = QPainterPath(start)
         path.lineTo(QPointF(tip.x() - dx * ARROW_LENGTH * 0.7, tip.y() - dy * ARROW_LENGTH * 0.7))
         return path, _arrow(tip, dx, dy)
-    # left of the direction of travel, in screen coordinates (y grows downwards)
-    nx, ny = dy, -dx
-    bend = min(70.0, max(16.0, 0.2 * dist))
-    cx = (p.x() + q.x()) / 2 + nx * bend
-    cy = (p.y() + q.y()) / 2 + ny * bend
+    cx, cy = control_point(p.x(), p.y(), q.x(), q.y(), bend)
     sx, sy = _unit(cx - p.x(), cy - p.y())
     ex, ey = _unit(q.x() - cx, q.y() - cy)
     start = QPointF(p.x() + sx * radius, p.y() + sy * radius)
@@ -47,6 +43,23 @@ def edge_path(p: QPointF, q: QPointF, bent: bool, radius: float = UNIT_RADIUS,
     path = QPainterPath(start)
     path.quadTo(QPointF(cx, cy), QPointF(tip.x() - ex * ARROW_LENGTH * 0.7, tip.y() - ey * ARROW_LENGTH * 0.7))
     return path, _arrow(tip, ex, ey)
+
+
+def control_point(px: float, py: float, qx: float, qy: float, bend: float) -> tuple[float, float]:
+    """The quadratic control point that puts the curve's middle ``bend`` to the left of p -> q.
+
+    The middle of a quadratic Bezier lies halfway between the chord's middle
+    and the control point, hence the factor 2.
+    """
+    dx, dy = _unit(qx - px, qy - py)
+    nx, ny = dy, -dx  # left of the direction of travel (screen y grows downwards)
+    return (px + qx) / 2 + nx * 2 * bend, (py + qy) / 2 + ny * 2 * bend
+
+
+def reciprocal_bend(p: QPointF, q: QPointF) -> float:
+    """How far the two arrows of a reciprocal pair bow apart by default."""
+    dist = math.hypot(q.x() - p.x(), q.y() - p.y())
+    return min(35.0, max(10.0, 0.1 * dist))
 
 
 def _loop(p: QPointF, radius: float, angle: float) -> tuple[QPainterPath, QPolygonF]:

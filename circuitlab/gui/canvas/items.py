@@ -1,13 +1,13 @@
 """The two kinds of items on the canvas: units and connections.
 
-Unit markers (drawn on the rim, our own design):
-- a teal wedge pointing into the left rim: the unit is clamped to data
+Unit markers (drawn on the rim, in the one visual code of ``gui.visual_code``):
+- a wedge pointing into the left rim: the unit is clamped to data
   (filled when clamped at every step, outlined when only at some steps);
-- an ochre ring with a dot on the right rim: the unit carries targets
+- a ring with a dot on the right rim: the unit carries targets
   (filled at every step, outlined at some steps);
-- a violet diamond on the bottom rim: the unit learns its initial state.
-Inside the unit a small curve shows its activation function, and a '+' or
-'-' on the upper right its sign constraint.
+- a diamond on the bottom rim: the unit learns its initial state;
+- a '+' or '-' in a small square on the upper right: its sign constraint.
+Inside the unit a small curve shows its activation function.
 """
 
 import math
@@ -18,8 +18,10 @@ from PySide6.QtGui import (QFont, QFontMetricsF, QPainter, QPainterPath,
                            QPainterPathStroker, QPen, QPolygonF)
 from PySide6.QtWidgets import QGraphicsItem, QStyle
 
+from circuitlab.gui import visual_code as vc
 from circuitlab.gui.canvas import style
 from circuitlab.gui.canvas.geometry import edge_path, free_angle
+from circuitlab.gui.visual_code import draw_clamp_mark, draw_learned_mark, draw_sign_mark, draw_target_mark  # noqa: F401
 from circuitlab.model import Circuit, Connection, Unit
 
 R = style.UNIT_RADIUS
@@ -132,16 +134,20 @@ class UnitItem(QGraphicsItem):
         painter.setRenderHint(QPainter.Antialiasing)
         selected = bool(option.state & QStyle.State_Selected)
         look = self.look
-        painter.setPen(QPen(style.UNIT_SELECTED if selected else style.UNIT_OUTLINE, 2.6 if selected else 1.5))
+        if selected:
+            painter.setPen(vc.selection_pen(7.0))
+            painter.setBrush(Qt.NoBrush)
+            painter.drawEllipse(QPointF(0, 0), R + 1.5, R + 1.5)
+        painter.setPen(QPen(style.UNIT_OUTLINE, 1.5))
         painter.setBrush(style.UNIT_FILL)
         painter.drawEllipse(QPointF(0, 0), R, R)
+        if selected:
+            painter.setPen(vc.selection_outline(2.0))
+            painter.setBrush(Qt.NoBrush)
+            painter.drawEllipse(QPointF(0, 0), R + 4.5, R + 4.5)
         _draw_activation(painter, look.activation)
         if look.sign:
-            painter.setPen(QPen(style.GLYPH, 1.6))
-            cx, cy = R * 0.52, -R * 0.52
-            painter.drawLine(QPointF(cx - 3, cy), QPointF(cx + 3, cy))
-            if look.sign == "excitatory":
-                painter.drawLine(QPointF(cx, cy - 3), QPointF(cx, cy + 3))
+            draw_sign_mark(painter, QPointF(R * 0.62, -R * 0.62), look.sign)
         if look.clamp:
             draw_clamp_mark(painter, QPointF(-R, 0), look.clamp == "every")
         if look.target:
@@ -155,7 +161,7 @@ class UnitItem(QGraphicsItem):
         painter.setBrush(style.NAME_PLATE)  # keeps the name legible where arrows pass beneath it
         painter.drawRoundedRect(plate, 4, 4)
         painter.setFont(NAME_FONT)
-        painter.setPen(style.UNIT_SELECTED if selected else style.UNIT_TEXT)
+        painter.setPen(vc.SELECTION if selected else style.UNIT_TEXT)
         painter.drawText(plate, Qt.AlignCenter, text)
 
     # ------------------------------------------------------------- behaviour
@@ -207,34 +213,6 @@ def _draw_activation(painter: QPainter, activation: str) -> None:
     painter.drawPolyline(QPolygonF(pts))
 
 
-def draw_clamp_mark(painter: QPainter, at: QPointF, filled: bool) -> None:
-    """A wedge pointing into the unit from the left: data held onto it."""
-    x, y = at.x(), at.y()
-    poly = QPolygonF([QPointF(x + 4, y), QPointF(x - 7, y - 6.5), QPointF(x - 7, y + 6.5)])
-    painter.setPen(QPen(style.CLAMP_MARK, 1.6, Qt.SolidLine, Qt.RoundCap, Qt.RoundJoin))
-    painter.setBrush(style.CLAMP_MARK if filled else style.UNIT_FILL)
-    painter.drawPolygon(poly)
-
-
-def draw_target_mark(painter: QPainter, at: QPointF, filled: bool) -> None:
-    """A ring with a centre dot: the unit's state is compared with a target."""
-    painter.setPen(QPen(style.TARGET_MARK, 1.8))
-    painter.setBrush(style.TARGET_MARK if filled else style.UNIT_FILL)
-    painter.drawEllipse(at, 6.0, 6.0)
-    painter.setPen(Qt.NoPen)
-    painter.setBrush(style.UNIT_FILL if filled else style.TARGET_MARK)
-    painter.drawEllipse(at, 2.0, 2.0)
-
-
-def draw_learned_mark(painter: QPainter, at: QPointF) -> None:
-    """A diamond: the state at step 0 is a trained parameter."""
-    x, y = at.x(), at.y()
-    poly = QPolygonF([QPointF(x, y - 6), QPointF(x + 6, y), QPointF(x, y + 6), QPointF(x - 6, y)])
-    painter.setPen(QPen(style.LEARNED_MARK, 1.4))
-    painter.setBrush(style.LEARNED_MARK)
-    painter.drawPolygon(poly)
-
-
 class ConnectionItem(QGraphicsItem):
     """A connection arrow: its geometry, weight level and picking shape.
 
@@ -248,7 +226,8 @@ class ConnectionItem(QGraphicsItem):
         self.source = source
         self.target = target
         self.layer = layer
-        self.bent = False
+        self.bend = 0.0     # how far the arrow bows to its left (0: straight); set by the scene's routing
+        self.tie_label = ""  # the tie group's short badge label, "" when not tied
         self.level = 0
         self.frozen = not connection.trains
         self.path = QPainterPath()
@@ -273,7 +252,7 @@ class ConnectionItem(QGraphicsItem):
             self.path, self.arrow = edge_path(self.source.pos(), self.source.pos(), False,
                                               loop_angle=self.source.loop_angle())
         else:
-            self.path, self.arrow = edge_path(self.source.pos(), self.target.pos(), self.bent)
+            self.path, self.arrow = edge_path(self.source.pos(), self.target.pos(), self.bend)
         self._shape = None
         pad = style.MAX_EDGE_WIDTH + 2
         self._bounds = self.path.boundingRect().united(self.arrow.boundingRect()).adjusted(-pad, -pad, pad, pad)

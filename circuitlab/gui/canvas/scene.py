@@ -11,7 +11,8 @@ from PySide6.QtCore import QPointF, QRectF, Signal
 from PySide6.QtGui import QPainter, QPen
 from PySide6.QtWidgets import QGraphicsScene
 
-from circuitlab.gui.canvas import style
+from circuitlab.gui.canvas import routing, style
+from circuitlab.gui.canvas.geometry import reciprocal_bend
 from circuitlab.gui.canvas.edge_layer import EdgeLayer
 from circuitlab.gui.canvas.items import ConnectionItem, UnitItem, UnitLook
 from circuitlab.gui.document import Document
@@ -36,6 +37,8 @@ class CircuitScene(QGraphicsScene):
         self.scale = 1.0
         self.frozen_positions: set[str] = set()  # units being dragged: their model position lags
         self._shown = None  # the circuit object the items were built for
+        self._routed_for = None  # the unit positions and arrows the current routes were made for
+        self.tie_labels: dict[str, str] = {}  # tie group -> its badge label
         document.structure_changed.connect(self._structure_changed)
         document.values_changed.connect(self.refresh_values)
         document.data_changed.connect(self.refresh_looks)
@@ -104,13 +107,9 @@ class CircuitScene(QGraphicsScene):
             e.source.edges.append(e)
             if e.target is not e.source:
                 e.target.edges.append(e)
-        # unit moves reshape their arrows as they happen; here only new arrows, arrows whose
-        # reverse came or went, and self-connections (their neighbours may have changed) need it
-        for key, e in edges.items():
-            bent = key[0] != key[1] and (key[1], key[0]) in edges
-            if e in fresh or bent != e.bent or key[0] == key[1]:
-                e.bent = bent
-                e.update_geometry()
+        for e in fresh:
+            e.update_geometry()
+        self._routed_for = None  # the arrows changed: route them again
         self._order = [edges.get(conn.key) for conn in c.connections]
         self._selection_changed()  # removed arrows must not stay highlighted
         self.layer.live = set()
@@ -124,7 +123,67 @@ class CircuitScene(QGraphicsScene):
             if name not in self.frozen_positions and (item.x() != u.x or item.y() != u.y):
                 item.setPos(u.x, u.y)
         self.refresh_looks()
+        self.refresh_ties()
+        if not self.frozen_positions:
+            self.reroute()
         self.refresh_weights()
+
+    def reroute(self, force: bool = False) -> None:
+        """Bow the arrows that would cross a unit or run along another arrow (see ``routing``).
+
+        Runs only when unit positions or the set of arrows changed since the last routing.
+        """
+        key = (tuple((n, i.x(), i.y()) for n, i in self.units.items()), len(self.edges))
+        if not force and key == self._routed_for:
+            return
+        self._routed_for = key
+        edges = self.edges
+        defaults = {}
+        for (s, t), e in edges.items():
+            if s != t and (t, s) in edges:
+                defaults[(s, t)] = reciprocal_bend(e.source.pos(), e.target.pos())
+        if len(edges) <= routing.ROUTE_LIMIT:
+            positions = {n: (i.x(), i.y()) for n, i in self.units.items()}
+            rects = {}
+            for n, i in self.units.items():
+                r = i.sceneBoundingRect()
+                loop = edges.get((n, n))
+                if loop is not None:  # other arrows keep clear of a unit's self-connection too
+                    loop.update_geometry()
+                    r = r.united(loop.path.boundingRect())
+                rects[n] = (r.left(), r.top(), r.right(), r.bottom())
+            bends = routing.route(positions, rects, list(edges), defaults)
+        else:  # a level of detail: thousands of arrows are drawn straight (reciprocal pairs apart)
+            bends = defaults
+        changed = False
+        for key_, e in edges.items():
+            bend = bends.get(key_, 0.0)
+            if key_[0] == key_[1] and len(edges) <= routing.ROUTE_LIMIT:
+                continue  # loops were placed above
+            if key_[0] == key_[1] or bend != e.bend:
+                e.bend = bend
+                e.update_geometry()
+                changed = True
+        if changed:
+            self.layer.invalidate()
+
+    def refresh_ties(self) -> None:
+        """Give every tied arrow its group's badge label: A, B, ... in the order groups first appear."""
+        labels: dict[str, str] = {}
+        changed = False
+        for conn in self.document.circuit.connections:
+            item = self.edges.get(conn.key)
+            label = ""
+            if conn.tie:
+                if conn.tie not in labels:
+                    labels[conn.tie] = _badge_label(len(labels))
+                label = labels[conn.tie]
+            if item is not None and item.tie_label != label:
+                item.tie_label = label
+                changed = True
+        self.tie_labels = labels
+        if changed:
+            self.layer.invalidate()
 
     def refresh_looks(self) -> None:
         c = self.document.circuit
@@ -176,6 +235,7 @@ class CircuitScene(QGraphicsScene):
     def end_drag(self) -> None:
         self.frozen_positions = set()
         self.layer.set_live(())
+        self.reroute()
 
     # ------------------------------------------------------------- selection
     def selected_units(self) -> list[str]:
@@ -269,5 +329,16 @@ class CircuitScene(QGraphicsScene):
         if not conn.trains:
             text += "<br>frozen"
         if conn.tie:
-            text += f"<br>tie group '{conn.tie}'"
+            badge = self.tie_labels.get(conn.tie, "")
+            text += f"<br>tie group '{conn.tie}' (badge {badge})"
         return text
+
+
+def _badge_label(i: int) -> str:
+    """A, B, ..., Z, AA, AB, ...: short enough for a badge on an arrow."""
+    text = ""
+    i += 1
+    while i:
+        i, r = divmod(i - 1, 26)
+        text = chr(65 + r) + text
+    return text

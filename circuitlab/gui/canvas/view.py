@@ -12,7 +12,7 @@ Wheel zooms about the cursor; the middle button (or space + drag) pans.
 import json
 import random
 
-from PySide6.QtCore import QEvent, QMimeData, QPointF, QRectF, Qt, Signal
+from PySide6.QtCore import QEvent, QMimeData, QPointF, QRectF, Qt, QTimer, Signal
 from PySide6.QtGui import (QAction, QActionGroup, QGuiApplication, QKeySequence, QMouseEvent,
                            QPainter, QPainterPath, QPen, QPixmap)
 from PySide6.QtWidgets import QApplication, QGraphicsPathItem, QGraphicsView, QMenu
@@ -30,6 +30,7 @@ FRAGMENT_MIME = "application/x-circuitlab-fragment"
 ZOOM_STEP = 1.15
 MIN_ZOOM, MAX_ZOOM = 0.05, 8.0
 MAX_FIT_ZOOM = 1.5
+LEGEND_MARGIN = 10  # pixels between the legend and the viewport's edges
 NEW_WEIGHT_RANGE = 0.3  # a drawn connection starts with a small random weight in +-this
 
 
@@ -68,7 +69,10 @@ class CircuitCanvas(QGraphicsView):
         self.setVerticalScrollBarPolicy(Qt.ScrollBarAlwaysOff)
         self.tool = "select"
         self.show_legend = True
-        self._legend_cache = None  # ((weight scale, pixel ratio), QPixmap)
+        self._legend_collapsed = False
+        self._legend_cache = None  # ((weight scale, pixel ratio, collapsed), QPixmap)
+        self._top_margin = 0  # pixels above the viewport kept for the example banner
+        self._legend_at = QRectF()
         self._fit_pending = False  # fit_to_view was asked for before the view had a size
         self._keep_fitted = False  # fitted and not zoomed or panned since: a resize fits again
         self._connect_from: UnitItem | None = None
@@ -121,15 +125,22 @@ class CircuitCanvas(QGraphicsView):
             self.resetTransform()
             self.centerOn(0, 0)
             return
-        rect = rect.adjusted(-20, -20, 20, 20)
+        rect = rect.adjusted(-12, -12, 12, 12)
         vw, vh = self.viewport().width(), self.viewport().height()
-        # keep the circuit clear of the legend in the lower left corner
-        lw = legend_size()[0] + 24 if self.show_legend else 0.0
-        z = min(MAX_FIT_ZOOM, (vw - lw - 16) / rect.width(), (vh - 16) / rect.height())
-        z = max(MIN_ZOOM, z)
+        # keep the circuit clear of the legend: leave it a strip at the left or at the bottom,
+        # whichever lets the circuit be drawn larger (the banner has its own margin above)
+        lw, lh = (legend_size(self._legend_collapsed) if self.show_legend else (0.0, 0.0))
+        lw, lh = (lw + 2 * LEGEND_MARGIN, lh + 2 * LEGEND_MARGIN) if self.show_legend else (0.0, 0.0)
+        beside = min((vw - lw - 8) / rect.width(), (vh - 8) / rect.height())
+        below = min((vw - 8) / rect.width(), (vh - lh - 8) / rect.height())
+        if beside >= below:
+            z, shift = beside, QPointF(-lw / 2, 0)
+        else:
+            z, shift = below, QPointF(0, lh / 2)
+        z = max(MIN_ZOOM, min(MAX_FIT_ZOOM, z))
         self.resetTransform()
         self.scale(z, z)
-        self.centerOn(rect.center() - QPointF(lw / 2 / z, 0))
+        self.centerOn(rect.center() + QPointF(shift.x() / z, shift.y() / z))
 
     def zoom(self, factor: float) -> None:
         self._keep_fitted = False
@@ -308,6 +319,11 @@ class CircuitCanvas(QGraphicsView):
     # ---------------------------------------------------------------- mouse
     def mousePressEvent(self, event: QMouseEvent) -> None:
         pos = self.mapToScene(event.position().toPoint())
+        if (event.button() == Qt.LeftButton and self.show_legend
+                and self.legend_rect().contains(event.position())):
+            self._legend_collapsed = not self._legend_collapsed  # a click folds or unfolds the legend
+            self.viewport().update()
+            return
         if event.button() == Qt.MiddleButton or (event.button() == Qt.LeftButton and self._space):
             self._keep_fitted = False
             self._pan_from = event.position()
@@ -443,7 +459,7 @@ class CircuitCanvas(QGraphicsView):
         self._connect_moved = False  # a press and release without moving is a click, not a self-loop
         self._press_scene = pos
         line = QGraphicsPathItem()
-        pen = QPen(style.UNIT_SELECTED, 1.6, Qt.DashLine)
+        pen = QPen(style.SELECTION, 1.6, Qt.DashLine)
         line.setPen(pen)
         line.setZValue(5)
         self.scene_.addItem(line)
@@ -498,21 +514,58 @@ class CircuitCanvas(QGraphicsView):
         if not self.show_legend:
             return
         scale, ratio = self.scene_.scale, self.devicePixelRatioF()
-        if self._legend_cache is None or self._legend_cache[0] != (scale, ratio):
-            w, h = legend_size()
+        key = (scale, ratio, self._legend_collapsed)
+        if self._legend_cache is None or self._legend_cache[0] != key:
+            w, h = legend_size(self._legend_collapsed)
             pixmap = QPixmap(int(w * ratio) + 2, int(h * ratio) + 2)
             pixmap.setDevicePixelRatio(ratio)
             pixmap.fill(Qt.transparent)
             p = QPainter(pixmap)
-            draw_legend(p, QPointF(0.5, 0.5), scale)
+            draw_legend(p, QPointF(0.5, 0.5), scale, self._legend_collapsed)
             p.end()
-            self._legend_cache = ((scale, ratio), pixmap)
+            self._legend_cache = (key, pixmap)
         pixmap = self._legend_cache[1]
         painter.save()
         painter.resetTransform()
-        h = pixmap.height() / ratio
-        painter.drawPixmap(QPointF(12, self.viewport().height() - h - 12), pixmap)
+        at = self.legend_rect()
+        painter.drawPixmap(at.topLeft(), pixmap)
         painter.restore()
+        if at != self._legend_at:  # it moved away from a unit: clear its old place too
+            self._legend_at = at
+            QTimer.singleShot(0, self.viewport().update)
+
+    def legend_rect(self) -> QRectF:
+        """Where the legend is drawn (viewport pixels): the first corner, from the lower left, where
+        it covers no unit; if every corner covers one, the corner that covers fewest."""
+        w, h = legend_size(self._legend_collapsed)
+        vw, vh = self.viewport().width(), self.viewport().height()
+        m = LEGEND_MARGIN
+        corners = [QRectF(m, vh - h - m, w, h), QRectF(vw - w - m, vh - h - m, w, h),
+                   QRectF(vw - w - m, m, w, h), QRectF(m, m, w, h)]
+        best, fewest = corners[0], None
+        for r in corners:
+            n = self._units_under(r)
+            if n == 0:
+                return r
+            if fewest is None or n < fewest:
+                best, fewest = r, n
+        return best
+
+    def _units_under(self, viewport_rect: QRectF) -> int:
+        area = self.mapToScene(viewport_rect.toAlignedRect()).boundingRect()
+        return sum(1 for i in self.scene_.units.values() if i.sceneBoundingRect().intersects(area))
+
+    def set_top_margin(self, pixels: int) -> None:
+        """Keep ``pixels`` above the viewport free (for the example banner), so it never covers the circuit."""
+        if pixels != self._top_margin:
+            self._top_margin = pixels
+            self.setViewportMargins(0, pixels, 0, 0)
+            if self._keep_fitted:
+                self.fit_to_view()
+
+    @property
+    def top_margin(self) -> int:
+        return self._top_margin
 
     def resizeEvent(self, event) -> None:
         super().resizeEvent(event)
