@@ -225,22 +225,27 @@ def test_edits_while_training(qtbot, make_main_window, long_latch):
 def test_settings_panel_edits_are_undoable(qtbot, main_window):
     panel = main_window.training.panel.settings
     doc = main_window.document
-    panel.seed.setFocus()
-    panel.seed.selectAll()
-    qtbot.keyClicks(panel.seed, "42")
-    qtbot.keyClick(panel.seed, Qt.Key_Return)
+    seed = panel.seed.box
+    seed.setFocus()
+    seed.selectAll()
+    qtbot.keyClicks(seed, "42")
+    qtbot.keyClick(seed, Qt.Key_Return)
     assert doc.circuit.training.seed == 42
-    qtbot.mouseClick(panel.clip_on, Qt.LeftButton)
-    assert doc.circuit.training.clip_norm is not None and panel.clip_norm.isEnabled()
+    qtbot.mouseClick(panel.clip_norm.switch, Qt.LeftButton)
+    assert doc.circuit.training.clip_norm is not None and panel.clip_norm.box.isEnabled()
     doc.undo_stack.undo()
-    assert doc.circuit.training.clip_norm is None and not panel.clip_on.isChecked()
+    assert doc.circuit.training.clip_norm is None and not panel.clip_norm.switch.isChecked()
     doc.undo_stack.undo()
     assert doc.circuit.training.seed == 0 and panel.seed.value() == 0
     # a value the settings refuse is explained and changes nothing
-    panel.learning_rate.setRange(0.0, 100.0)
-    panel.learning_rate.setValue(0.0)
-    assert panel.problem.isVisible() and "learning rate" in panel.problem.text()
+    rate = panel.learning_rate.box
+    rate.setFocus()
+    rate.selectAll()
+    qtbot.keyClicks(rate, "0")
+    qtbot.keyClick(rate, Qt.Key_Return)
+    assert panel.problem.isVisible() and "Learning rate" in panel.problem.text()
     assert doc.circuit.training.learning_rate == 0.01 and panel.learning_rate.value() == 0.01
+    assert doc.undo_stack.index() == 0
 
 
 def test_screenshot_after_training(isolated_settings, examples_dir, tmp_path):

@@ -6,15 +6,13 @@ Every change is an undo command; consecutive changes of the same field on
 the same items merge into one undo step.
 """
 
-import math
-
 from PySide6.QtCore import Qt
-from PySide6.QtGui import QDoubleValidator
 from PySide6.QtWidgets import (QCheckBox, QComboBox, QFormLayout, QGroupBox, QHBoxLayout, QLabel,
                                QLineEdit, QScrollArea, QSpinBox, QVBoxLayout, QWidget)
 
 from circuitlab.gui.commands import (RenameUnit, SetConnectionFields, SetScheduleFields, SetUnitFields,
                                      TieConnections, UntieConnections)
+from circuitlab.gui.exact_numbers import ExactField, format_number, parse_float
 from circuitlab.model import ModelError
 from circuitlab.model.units import ACTIVATIONS
 
@@ -67,32 +65,24 @@ def format_steps(steps: list[int]) -> str:
     return ", ".join(out)
 
 
-class NumberField(QLineEdit):
-    """A text field for one float; blank with 'mixed' shown when the selected items differ."""
+class NumberField(ExactField):
+    """A field for one float, shown exactly; blank with 'mixed' shown when the selected items differ.
+
+    ``committed`` fires only when the user typed a change (Enter in an untouched field does nothing).
+    """
 
     def __init__(self, placeholder: str = MIXED):
-        super().__init__()
-        v = QDoubleValidator()
-        v.setNotation(QDoubleValidator.ScientificNotation)
-        self.setValidator(v)
-        self.default_placeholder = placeholder
+        super().__init__(placeholder)
 
     def show_value(self, values: list) -> None:
-        if self.hasFocus():
-            return
         same = len(set(values)) == 1
         v = values[0] if same else None
-        self.setPlaceholderText(self.default_placeholder if same else MIXED)
-        self.setText("" if v is None else f"{v:.6g}")
+        self.show_text(format_number(v), self.default_placeholder if same else MIXED)
 
     def value(self) -> float | None:
+        """The typed value (None for a blank field); ValueError with a plain message if it is not one."""
         text = self.text().strip()
-        if not text:
-            return None
-        v = float(text.replace(",", "."))
-        if not math.isfinite(v):
-            raise ValueError("must be a finite number")
-        return v
+        return parse_float(text) if text else None
 
 
 class PropertiesPanel(QWidget):
@@ -142,7 +132,7 @@ class PropertiesPanel(QWidget):
         self.activation = self._combo([(a, a) for a in ACTIVATIONS], lambda v: self._set_unit("activation", v))
         f.addRow("Activation", self.activation)
         self.bias = NumberField()
-        self.bias.editingFinished.connect(lambda: self._set_number(self.bias, "bias", required=True))
+        self.bias.committed.connect(lambda _t: self._set_number(self.bias, "bias", required=True))
         self.bias_trains = QCheckBox("trains")
         self.bias_trains.clicked.connect(lambda on: self._set_unit("bias_trains", on))
         row = QHBoxLayout()
@@ -154,8 +144,8 @@ class PropertiesPanel(QWidget):
         self.initial_value = NumberField("default")
         self.initial_value.setToolTip("The state at step 0 (or the learned value's starting point). "
                                       "Leave blank for the default: 0.5 for logistic units, 0 otherwise.")
-        self.initial_value.editingFinished.connect(
-            lambda: self._set_number(self.initial_value, "initial_value", required=False))
+        self.initial_value.committed.connect(
+            lambda _t: self._set_number(self.initial_value, "initial_value", required=False))
         f.addRow("Initial value", self.initial_value)
         self.clamp = self._combo(CLAMP_CHOICES, lambda v: self._set_schedule("clamp", v))
         f.addRow("Clamped", self.clamp)
@@ -181,7 +171,7 @@ class PropertiesPanel(QWidget):
         f = QFormLayout(self.conn_box)
         f.setFieldGrowthPolicy(QFormLayout.AllNonFixedFieldsGrow)
         self.weight = NumberField()
-        self.weight.editingFinished.connect(self._set_weight)
+        self.weight.committed.connect(self._set_weight)
         self.weight_trains = QCheckBox("trains")
         self.weight_trains.clicked.connect(
             lambda on: self._push(lambda: SetConnectionFields(self.document, self.connections, "trains", on)))
@@ -316,19 +306,21 @@ class PropertiesPanel(QWidget):
         try:
             value = edit.value()
         except ValueError as exc:
-            self.problem.setText(f"{field.replace('_', ' ')}: {exc}")
+            self.problem.setText(f"{field.replace('_', ' ')}: {exc}; nothing was changed.")
+            edit.revert()
             return
         if value is None and (required or edit.placeholderText() == MIXED):
             return  # blank: leave the (mixed) values alone
         self._set_unit(field, value)
 
-    def _set_weight(self) -> None:
+    def _set_weight(self, _text: str = "") -> None:
         if self._filling or not self.connections:
             return
         try:
             value = self.weight.value()
         except ValueError as exc:
-            self.problem.setText(f"weight: {exc}")
+            self.problem.setText(f"weight: {exc}; nothing was changed.")
+            self.weight.revert()
             return
         c = self.document.circuit
         if value is not None and any(c.connection(*k).weight != value for k in self.connections):
