@@ -19,7 +19,7 @@ def compiled_of(circuit):
 
 
 def independent_step(circuit, state, free):
-    """One step of DESIGN.md's update written out unit by unit, apart from the engine's code."""
+    """One step of the update in docs/mathematics.md written out unit by unit, apart from the engine's code."""
     names = circuit.unit_names()
     out = []
     for j in free:
@@ -79,7 +79,7 @@ def test_every_reported_fixed_point_satisfies_y_equals_F_of_y(seed):
     report = fixed_points_of(comp, params, held, starts=24, seed=seed)
     free = report.map.free
     for p in report.points:
-        # y = F(y) checked with the update written out unit by unit (DESIGN.md).
+        # y = F(y) checked with the update written out unit by unit (docs/mathematics.md).
         assert np.abs(independent_step(circuit, p.state, free) - p.y).max() <= 1e-10
         assert all(p.state[comp.unit_index(k)] == v for k, v in held.items())
     ys = [p.y for p in report.points]

@@ -37,7 +37,7 @@ def uneven_circuit() -> Circuit:
 
 
 def test_uneven_batch_puts_error_only_where_the_design_allows():
-    # DESIGN: "final" targets each sequence at its own last step; e = delta = 0 where a unit
+    # docs/mathematics.md: "final" targets each sequence at its own last step; e = delta = 0 where a unit
     # is clamped; padding past a sequence's end is no cell of it, so it carries no error
     # (padding with a step mask, common practice).
     c = uneven_circuit()
@@ -55,7 +55,7 @@ def test_uneven_batch_puts_error_only_where_the_design_allows():
 
 
 def test_learned_initial_state_is_shared_and_its_gradient_sums_the_sequences():
-    # One learned s_j for every sequence: dE/ds_j = sum over sequences of e_j(0) (DESIGN),
+    # One learned s_j for every sequence: dE/ds_j = sum over sequences of e_j(0) (docs/mathematics.md),
     # here for a unit that learns its initial state and carries a target. Checked against
     # central finite differences of the batch loss (common practice) and against the
     # sequences run one by one.
@@ -109,7 +109,7 @@ def _tied_pair() -> Circuit:
 
 
 def test_tie_group_mixing_frozen_and_training_members_is_refused():
-    # One parameter cannot both train and stay fixed (DESIGN: tied weights share one parameter).
+    # One parameter cannot both train and stay fixed (docs/mathematics.md: tied weights share one parameter).
     c = _tied_pair()
     c.connection("x", "o").trains = False
     assert any("some members train and some are frozen" in str(p) for p in find_problems(c))
@@ -118,7 +118,7 @@ def test_tie_group_mixing_frozen_and_training_members_is_refused():
 
 
 def test_tie_group_mixing_excitatory_and_inhibitory_sources_is_refused():
-    # One shared weight cannot be both >= 0 and <= 0 except at 0 (DESIGN sign constraints).
+    # One shared weight cannot be both >= 0 and <= 0 except at 0 (docs/mathematics.md, sign constraints).
     c = _tied_pair()
     for pair in (("x", "o"), ("x", "h"), ("h", "o")):
         c.connection(*pair).weight = 0.0

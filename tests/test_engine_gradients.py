@@ -1,7 +1,7 @@
-"""BPTT gradients against autograd, finite differences and the DESIGN's equations.
+"""BPTT gradients against autograd, finite differences and the equations of docs/mathematics.md.
 
-The reference is an independent, plain implementation of the DESIGN
-mathematics in autograd.numpy (a loop over sequences, steps and units,
+The reference is an independent, plain implementation of the
+mathematics of docs/mathematics.md in autograd.numpy (a loop over sequences, steps and units,
 reading the model directly, not the compiled arrays); its gradients come from
 autograd's reverse mode (source: the autograd package, HIPS).
 """
@@ -30,7 +30,7 @@ def _f(act, net):
 
 
 def reference_loss(circuit, weight, bias, init, loss, detach_before=None):
-    """The DESIGN loss, mean over target cells; weight/bias/init map names to (traced) values.
+    """The loss of docs/mathematics.md, mean over target cells; weight/bias/init map names to (traced) values.
 
     ``detach_before`` = (tau, k): only the cells at step tau count, and the
     states at step tau-k-1 are treated as constants (truncated BPTT's reference).
@@ -71,7 +71,7 @@ def _relerr(a, b):
 
 @pytest.mark.parametrize("seed", list(range(50)) + [("large", k) for k in range(10)])
 def test_bptt_equals_autograd_on_random_circuits(seed):
-    # Reference: autograd reverse mode on the plain DESIGN loop (source: autograd).
+    # Reference: autograd reverse mode on the plain loop of docs/mathematics.md (source: autograd).
     # 50 small circuits, then 10 larger and longer ones.
     if isinstance(seed, tuple):
         circuit = random_circuit(1000 + seed[1], max_units=9, max_length=15, max_sequences=4)
@@ -128,7 +128,7 @@ def test_bptt_equals_autograd_on_random_circuits(seed):
 
 
 def test_contributions_sum_to_the_connection_gradient():
-    # DESIGN: dE/dw_ij = sum over t of y_i(t-1) delta_j(t). Source: a weight shared by the copies
+    # docs/mathematics.md: dE/dw_ij = sum over t of y_i(t-1) delta_j(t). Source: a weight shared by the copies
     # of an unrolled net gets the sum of their gradients (Rumelhart, Hinton and Williams, 1986;
     # Werbos, 1990; cited from memory).
     circuit = random_circuit(3)

@@ -36,7 +36,7 @@ def constrained_circuit() -> Circuit:
 
 
 def test_ties_stay_equal_frozen_unchanged_signs_kept_over_100_epochs():
-    # DESIGN constraints: a tie group is one parameter, frozen values never move,
+    # Constraints (docs/mathematics.md): a tie group is one parameter, frozen values never move,
     # sign-constrained weights are projected onto their half-line after each update.
     # Sources: weight sharing as one parameter (Rumelhart, Hinton and Williams, 1986, from
     # memory); projection onto the allowed half-line (common practice, projected gradient).

@@ -48,7 +48,7 @@ def test_standalone_file_reproduces_the_activity_stack(tmp_path, seed):
     got = run_isolated(tmp_path, standalone_source(comp, params, circuit.name))
     assert list(got) == comp.sequence_names
     for s, name in enumerate(comp.sequence_names):
-        # The engine's own forward pass is the reference (DESIGN.md's update); agreement to 1e-12.
+        # The engine's own forward pass is the reference (the update in docs/mathematics.md); agreement to 1e-12.
         assert np.abs(np.array(got[name]) - y[s, : comp.lengths[s] + 1]).max() <= 1e-12
 
 

@@ -1,6 +1,6 @@
 """Backpropagation through time (BPTT) and the per-step contributions of a connection.
 
-Backwards from T (DESIGN, "The mathematics"), with L the loss (the mean over
+Backwards from T (docs/mathematics.md, "Backpropagation through time"), with L the loss (the mean over
 the batch's target cells of the per-cell loss, N target cells)::
 
     e_j(t)     = dL/dy_j(t)   = m_j(t) dloss/dy / N + sum_k w_jk delta_k(t+1)

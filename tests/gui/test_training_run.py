@@ -110,7 +110,7 @@ def test_views_follow_the_engine_and_contributions_sum_to_its_gradient(qtbot, ma
     params = train.parameters_from_circuit()
     _, grads, _ = backward(train, params, forward(train, params), loss=circuit.training.loss)
     j = train.unit_index("latched_open")
-    # BPTT: the copies' contributions sum to the shared weight's gradient (DESIGN.md, "The mathematics";
+    # BPTT: the copies' contributions sum to the shared weight's gradient (docs/mathematics.md, "Backpropagation through time";
     # source: Rumelhart, Hinton and Williams, 1986, cited from memory)
     assert t.contributions.total == pytest.approx(grads.W[j, j], rel=1e-9, abs=1e-13)
     assert t.contributions.gradient == pytest.approx(grads.W[j, j], rel=1e-9, abs=1e-13)

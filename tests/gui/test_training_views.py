@@ -2,7 +2,7 @@
 
 Checks of the main computation name their source: the identity "the per-copy
 contributions of a shared weight sum to its gradient" is BPTT's definition
-(Werbos 1990; DESIGN.md), and the gradient itself is compared with central
+(Werbos 1990; docs/mathematics.md), and the gradient itself is compared with central
 finite differences of the engine's loss (common practice).
 """
 

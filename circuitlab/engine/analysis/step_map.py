@@ -3,7 +3,7 @@
 With the held (clamped) units c at constant values x_c, the free units f
 follow ``y_f(t) = F(y_f(t-1))`` with
 
-    F(y)_j = f_j(b_j + sum_{i in c} w_ij x_i + sum_{i in f} w_ij y_i)      (DESIGN.md)
+    F(y)_j = f_j(b_j + sum_{i in c} w_ij x_i + sum_{i in f} w_ij y_i)      (docs/mathematics.md)
 
 and its Jacobian ``J[j, i] = dF_j/dy_i = f_j'(net_j) * w_ij`` over free i, j.
 """
