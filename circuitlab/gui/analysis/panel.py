@@ -152,7 +152,7 @@ class AnalysisPanel(QTabWidget):
             names = report.map.unit_names
             rows = []
             for k, p in enumerate(report.points, 1):
-                tc = "∞" if not np.isfinite(p.time_constant) else f"{p.time_constant:.3g} steps"
+                tc = "no decay" if not np.isfinite(p.time_constant) else f"{p.time_constant:.3g} steps"
                 state = ", ".join(f"{names[i]}={p.state[i]:.3g}" for i in report.map.free[:6])
                 rows.append([k, "yes" if p.stable else "no", p.largest_magnitude, tc, state])
             _fill(table, rows)
@@ -246,9 +246,10 @@ class AnalysisPanel(QTabWidget):
 
 
 def setup(window) -> AnalysisPanel:
-    """Listed in ``gui.panels.PANEL_SETUPS``: dock the Analysis panel as a tab beside the activity stack."""
+    """Listed in ``gui.panels.PANEL_SETUPS``: dock the Analysis panel (the default layout,
+    ``gui.training.arrange_docks``, makes it a tab beside the activity stack)."""
     panel = AnalysisPanel(window)
-    window.add_panel(panel, "Analysis", "analysis", Qt.BottomDockWidgetArea, tabify_with="training_activity")
+    window.add_panel(panel, "Analysis", "analysis", Qt.BottomDockWidgetArea)
     window.analysis = panel
     window.closing.connect(lambda: QThreadPool.globalInstance().waitForDone(5000))
     return panel
