@@ -246,10 +246,11 @@ class AnalysisPanel(QTabWidget):
 
 
 def setup(window) -> AnalysisPanel:
-    """Listed in ``gui.panels.PANEL_SETUPS``: dock the Analysis panel (the default layout,
-    ``gui.training.arrange_docks``, makes it a tab beside the activity stack)."""
+    """Listed in ``gui.panels.PANEL_SETUPS``: dock the Analysis panel, hidden until asked for
+    (View > Panels > Analysis). Docked as a tab before the window is first shown, Qt 6.11 leaves
+    a stray tab bar over the views; docked as a fifth view it squeezes the others at 1280x800."""
     panel = AnalysisPanel(window)
-    window.add_panel(panel, "Analysis", "analysis", Qt.BottomDockWidgetArea)
+    window.add_panel(panel, "Analysis", "analysis", Qt.BottomDockWidgetArea, visible=False)
     window.analysis = panel
     window.closing.connect(lambda: QThreadPool.globalInstance().waitForDone(5000))
     return panel

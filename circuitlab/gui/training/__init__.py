@@ -127,14 +127,11 @@ def setup(window) -> TrainingSetup:
 
 
 def arrange_docks(window, width: int, height: int) -> None:
-    """The default layout: the activity stack and the analysis share the inputs grid's place (the
-    first two are units by steps) and the training views get a generous share of a ``width`` x ``height`` window."""
-    grid = window.panel("schedule_grid")
-    for name in ("training_activity", "analysis"):  # units-by-steps views and the analysis share one place
-        dock = window.panel(name)
-        if grid is not None and dock is not None and dock not in window.tabifiedDockWidgets(grid):
-            window.tabifyDockWidget(grid, dock)
-    activity = window.panel("training_activity")
+    """The default layout: the activity stack shares the inputs grid's place (both are units by
+    steps) and the training views get a generous share of a ``width`` x ``height`` window."""
+    grid, activity = window.panel("schedule_grid"), window.panel("training_activity")
+    if grid is not None and activity is not None and activity not in window.tabifiedDockWidgets(grid):
+        window.tabifyDockWidget(grid, activity)
     if activity is not None:
         activity.raise_()
     docks = [window.panel(n) for n in ("training_unrolled", "training_activity", "training_curves")]
